@@ -179,7 +179,7 @@ def _factors(averaging_factors, n_phase: int) -> np.ndarray:
 
 
 def _noise_alphas(x: np.ndarray, m_values: np.ndarray, noise_alpha) -> tuple[np.ndarray, list]:
-    """Noise exponent per tau: given, identified (lag-1 ACF), borrowed from the nearest tau, or assumed."""
+    """Noise exponent per tau: given, lag-1 ACF, borrowed from the nearest tau, or assumed."""
     if noise_alpha is not None:
         alphas = np.broadcast_to(np.asarray(noise_alpha, dtype=float), m_values.shape).copy()
         if np.any(alphas < -2.0) or np.any(alphas > 2.0):
@@ -240,7 +240,8 @@ def _sums_of_squares(name: str, x: np.ndarray, m: int) -> tuple[float, int]:
     idx = np.arange(n)
     xr = x - np.polyval(np.polyfit(idx, x, 1), idx) if n > 2 else x - x.mean()
     c = np.concatenate(([0.0], np.cumsum(xr)))
-    z = c[3 * m : 3 * m + count] - 3.0 * c[2 * m : 2 * m + count] + 3.0 * c[m : m + count] - c[:count]
+    z = c[3 * m : 3 * m + count] - 3.0 * c[2 * m : 2 * m + count]
+    z += 3.0 * c[m : m + count] - c[:count]
     return float(np.dot(z, z)), count
 
 
