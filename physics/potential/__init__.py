@@ -1,0 +1,1 @@
+"""Gravitational potentials (positive convention: U = +GM/r for a point mass)."""
