@@ -20,6 +20,9 @@ in variance:
     flicker FM      Var x ~ t^2 sigma_y^2(t) = 2 ln 2 h_-1 t^2   approximation (common
                     practice); flicker FM has no finite stationary form, the value
                     depends on how long before t = 0 the noise is taken to have run
+                    (Kasdin-Walter noise started at the sync, physics.clock.simulate,
+                    gives about 1.2 times this variance-root at 10^2..10^3 samples:
+                    treat the flicker FM figure as optimistic by ~20%)
     white PM        Var x = 2 h_2 f_h / (4 pi^2)             exact for the difference
                     x(t) - x(0) of white phase noise of bandwidth f_h (t >> 1/f_h)
     flicker PM      Var x ~ t^2 sigma_y^2(t)                 approximation (common practice)
