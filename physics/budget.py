@@ -210,7 +210,7 @@ def _omitted_terms(inputs: BudgetInputs, mean_r_m: float) -> list[dict]:
             })
     out.append({
         "term": "planetary_tides",
-        "size_fractional": 3.3e20 * mean_r_m**2 / (4.1e10) ** 3 / C2_M2_PER_S2,
+        "size_fractional": 3.25e14 * mean_r_m**2 / (4.1e10) ** 3 / C2_M2_PER_S2,
         "note": "Venus at its closest, the largest planetary tide",
     })
     out.append({
@@ -289,7 +289,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     coef, basis = _fit_secular(t_fine, weights, fit_rows, period, span.duration_s)
     slope = coef[:, 1]
     rate_vs_tt = slope[0]
-    term_slopes = dict(zip(TERM_NAMES, slope[1:1 + len(TERM_NAMES)]))
+    term_slopes = dict(zip(TERM_NAMES, slope[1:1 + len(TERM_NAMES)], strict=True))
     harmonic_total = coef[-1, 2:] if coef.shape[1] > 2 else None
 
     # Reference's own rate against TT, to express rates per reference second.

@@ -1,0 +1,28 @@
+"""Service limits and options, from environment variables (prefix TAUBUDGET_).
+
+Units are in the names: TAUBUDGET_MAX_SPAN_DAYS=400 and so on.
+"""
+
+from __future__ import annotations
+
+import functools
+
+from pydantic_settings import BaseSettings, SettingsConfigDict
+
+
+class Settings(BaseSettings):
+    model_config = SettingsConfigDict(env_prefix="TAUBUDGET_", extra="ignore")
+
+    MAX_SPAN_DAYS: float = 400.0
+    MAX_NODES: int = 3_000_000
+    MAX_SERIES_POINTS: int = 200_000
+    MAX_BATCH_ITEMS: int = 500
+    MAX_BATCH_NODES: int = 20_000_000
+    MAX_BODY_BYTES: int = 5_000_000
+    DEFAULT_HOST: str = "127.0.0.1"
+    DEFAULT_PORT: int = 8000
+
+
+@functools.lru_cache(maxsize=1)
+def get_settings() -> Settings:
+    return Settings()
