@@ -7,6 +7,11 @@ spectrum proportional to f^(-2 delta), delta < 1/2, the lag-1 autocorrelation
 is r1 = delta / (1 - delta), so delta = r1 / (1 + r1). The phase series is
 differenced until delta < 1/4; after d differences the phase spectral exponent
 is p = -2 (delta + d) and the IEEE Std 1139 frequency exponent alpha = p + 2.
+
+Limitation: after decimation (m > 1) the flicker types sit near a rounding boundary
+(for continuous flicker FM averaged over tau the theory gives alpha close to -1.45, from
+the structure function of averaged flicker noise), so they can be named as a
+neighbouring type; the EDF, and so the confidence bounds, then shift by typically 10-20%.
 """
 
 from __future__ import annotations
