@@ -68,6 +68,17 @@ class TleOrbit(OrbitSource):
             raise PhysicsInputError("orbit.line2", line2, "mean motion must be positive")
         self.line1, self.line2 = line1, line2
 
+    @classmethod
+    def from_satrec(cls, satrec, ts, name: str = "clock") -> "TleOrbit":
+        """Wrap an already initialised ``sgp4.api.Satrec`` (e.g. from ``sgp4init``)."""
+        if satrec.error:
+            raise PhysicsInputError("orbit", None, f"SGP4 rejects the elements: {SGP4_ERRORS[satrec.error]}")
+        self = cls.__new__(cls)
+        self.sat = EarthSatellite.from_satrec(satrec, ts)
+        self.sat.name = name
+        self.line1 = self.line2 = None
+        return self
+
     def epoch(self):
         return self.sat.epoch
 

@@ -1,0 +1,12 @@
+"""Shared fixtures for physics tests."""
+
+from __future__ import annotations
+
+import pytest
+
+from physics.ephemeris import timescale
+
+
+@pytest.fixture(scope="session")
+def ts():
+    return timescale()
