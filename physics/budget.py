@@ -228,13 +228,40 @@ def _omitted_terms(inputs: BudgetInputs, mean_r_m: float) -> list[dict]:
 
 @dataclass
 class Budget:
-    """A computed budget; ``to_dict`` gives the public JSON shape."""
+    """A computed budget; ``to_dict`` gives the public JSON shape.
+
+    The offset functions evaluate the integrated offset at any times inside the
+    span (TT seconds since the start), in seconds, clock minus reference:
+    ``offset_s`` as the clock runs with no preset; ``after_preset_s`` once the
+    frequency preset removes the secular rate (what is left is the periodic
+    part); ``after_correction_s`` once the user segment also applies the
+    eccentricity correction -(2/c^2) r.v.
+    """
 
     data: dict
     nodes_used: int
+    integral: object = None
+    secular_rate_per_tt_s: float = 0.0
+    _ecc_scale: float = 0.0
+    _rv0: float = 0.0
+    _rv_row: int = -1
 
     def to_dict(self) -> dict:
         return self.data
+
+    def offset_s(self, t_s) -> np.ndarray:
+        return self.integral.cumulative_at(t_s)[0]
+
+    def eccentricity_term_s(self, t_s) -> np.ndarray:
+        rv = self.integral.values_at(t_s)[self._rv_row]
+        return -2.0 * self._ecc_scale * (rv - self._rv0)
+
+    def after_preset_s(self, t_s) -> np.ndarray:
+        t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
+        return self.offset_s(t_s) - self.secular_rate_per_tt_s * t_s
+
+    def after_correction_s(self, t_s) -> np.ndarray:
+        return self.after_preset_s(t_s) - self.eccentricity_term_s(t_s)
 
 
 def compute_budget(inputs: BudgetInputs) -> Budget:
@@ -400,4 +427,5 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     else:
         data["series"] = None
     data["caution"] = CAUTION
-    return Budget(data, q.node_count)
+    return Budget(data, q.node_count, q, float(rate_vs_tt), ecc_scale, float(rv0),
+                  rows_names.index("r_dot_v"))
