@@ -274,7 +274,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
 
     def fun(t_s):
         nr = integrand_terms(src, ref, t_s, grav, env)
-        if not nr.code.all() == 0 and (nr.code != 0).any():
+        if (nr.code != 0).any():
             first = int(np.argmax(nr.code != 0))
             msg = nr.messages.get(int(nr.code[first]), "propagation failed")
             when = span.utc_iso(t_s[first])[0]
