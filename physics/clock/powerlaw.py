@@ -107,9 +107,7 @@ class HAlphaFit:
         return {NOISE_NAMES[a]: h for a, h in self.h_alpha.items()}
 
 
-def fit_h_alpha(
-    tau_s, adev, noise_alphas=None, f_h_hz: float | None = None
-) -> HAlphaFit:
+def fit_h_alpha(tau_s, adev, noise_alphas=None, f_h_hz: float | None = None) -> HAlphaFit:
     """Fit h_alpha >= 0 to Allan deviation points by non-negative least squares on sigma^2.
 
     tau_s (s), adev (dimensionless): at least as many points as fitted terms. noise_alphas:

@@ -85,9 +85,7 @@ def simulate_fractional_frequency(
     y = np.zeros((int(n_realisations), int(n_samples)))
     for alpha in sorted(h_alpha):
         if h_alpha[alpha]:
-            y += kasdin_walter_noise(
-                n_samples, alpha, h_alpha[alpha], sample_interval_s, rng, n_realisations
-            )
+            y += kasdin_walter_noise(n_samples, alpha, h_alpha[alpha], sample_interval_s, rng, n_realisations)
     return y
 
 

@@ -257,6 +257,4 @@ def max_free_running_s(
     else:
         lo = float(grid[i - 1])
     hi = float(grid[i])
-    return float(
-        brentq(lambda s: float(excess(np.array([s]))[0]), lo, hi, xtol=1e-12, rtol=1e-9)
-    )
+    return float(brentq(lambda s: float(excess(np.array([s]))[0]), lo, hi, xtol=1e-12, rtol=1e-9))
