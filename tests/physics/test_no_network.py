@@ -20,6 +20,7 @@ class _NoNetwork(socket.socket):
 def test_budget_with_sockets_blocked(monkeypatch):
     monkeypatch.setattr(socket, "socket", _NoNetwork)
     monkeypatch.setattr(socket, "create_connection", _NoNetwork)
+    eph_mod.ephemeris().close()  # reopen from disk below, with no network
     eph_mod.timescale.cache_clear()
     eph_mod.ephemeris.cache_clear()
     env_mod._cached.cache_clear()
