@@ -6,7 +6,7 @@ are written against them. Add fields; never rename or drop one.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import Annotated, Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
 
@@ -100,3 +100,180 @@ EXAMPLE_REQUEST = {
     "gravity": {"earth_zonal_degree": 0, "sun": False, "moon": False},
     "series_step_s": 900, "nominal_frequency_hz": 10230000.0,
 }
+
+
+# --- Response models (documentation and schema checks; additive) ----------------------
+# The routes return the physics output as is; these models describe it for the OpenAPI
+# page. ``extra="allow"`` so that a field added by physics/ is documented as allowed
+# rather than dropped.
+
+
+class _Open(BaseModel):
+    model_config = ConfigDict(extra="allow")
+
+
+class PeriodicOut(_Open):
+    amplitude_ns: float = Field(description="Half the peak-to-peak periodic offset after the preset, ns")
+    peak_to_peak_ns: float
+    dominant_period_s: float | None = Field(description="Period of the largest periodic component, s")
+
+
+class EccentricityCorrectionOut(_Open):
+    amplitude_ns: float = Field(description="Amplitude of -(2/c^2) r.v over the span, ns")
+    residual_after_correction_ns: float
+    residual_peak_to_peak_ns: float
+    formula: str
+    analytic_amplitude_ns: float | None = Field(None, description="2 sqrt(a GM) e / c^2 (Keplerian only), ns")
+
+
+class OmittedTermOut(_Open):
+    term: str
+    size_fractional: float = Field(description="Order of magnitude of the omitted rate term, fractional")
+    note: str
+
+
+class SeriesOut(_Open):
+    time_utc: list[str]
+    elapsed_s: list[float]
+    offset_ns: list[float] = Field(description="Accumulated offset, clock minus reference, ns")
+    periodic_ns: list[float]
+    eccentricity_term_ns: list[float]
+
+
+class BudgetResponse(_Open):
+    """A drift budget: the same JSON as ``taubudget budget --json``. Offsets are clock minus reference."""
+
+    mean_fractional_rate: float = Field(
+        description="Mean rate against the reference, s/s (positive: the clock gains)")
+    mean_rate_us_per_day: float
+    terms_fractional: dict[str, float]
+    frequency_preset_fractional: float = Field(
+        description="Fractional frequency offset that nulls the mean rate")
+    preset_frequency_hz: float | None
+    nominal_frequency_hz: float | None
+    offset_at_end_ns: float
+    offset_extreme_ns: float
+    offset_extreme_time_utc: str
+    offset_min_ns: float
+    offset_max_ns: float
+    periodic: PeriodicOut
+    eccentricity_correction: EccentricityCorrectionOut
+    integration_error_estimate_ps: float
+    integration_error_estimate_ps_per_day: float
+    nodes_used: int
+    panels_used: int
+    model: dict
+    omitted_terms: list[OmittedTermOut]
+    series: SeriesOut | None
+    caution: str = Field(description="Planning-estimate caution; travels with every budget")
+    reference: str | dict
+    start_utc: str
+    end_utc: str
+    span_s: float = Field(description="Span in TT seconds")
+
+
+class ProblemFieldError(_Open):
+    pointer: str = Field(description="JSON pointer (RFC 6901) to the bad field of the request body")
+    detail: str
+    parameter: str | None = Field(None, description="Query parameter name, for query-string requests")
+
+
+class Problem(_Open):
+    """RFC 9457 problem details."""
+
+    type: str
+    title: str
+    status: int
+    detail: str
+    instance: str | None = None
+    errors: list[ProblemFieldError] = Field(default_factory=list)
+
+
+class BatchRequest(_Strict):
+    """Many budgets in one call. Each item is a BudgetRequest plus an ``id``, merged over ``defaults``.
+
+    Merging is per top-level key: an item's key replaces the same key of ``defaults``
+    whole (an item's ``gravity`` object replaces the default one). An item that gives
+    ``end`` or ``duration_days`` drops the other from the defaults.
+    """
+
+    items: list[Any] = Field(
+        min_length=1, description="Requests with an 'id' each; validated one by one",
+        json_schema_extra={"items": {"type": "object"}},
+    )
+    defaults: dict = Field(default_factory=dict, description="Keys shared by every item")
+
+
+class BatchResultItem(_Open):
+    id: str | int | None
+    status: int = Field(description="200, or the status of this item's problem")
+    budget: BudgetResponse | None = None
+    problem: Problem | None = None
+
+
+class BatchResponse(_Open):
+    items: list[BatchResultItem]
+    succeeded: int
+    failed: int
+    estimated_nodes: int = Field(description="Up-front node estimate that was checked against the limit")
+    caution: str
+
+
+class ConstantOut(_Open):
+    name: str
+    value: float | int | str | dict
+    doc: str = Field(description="Unit and source, from physics/constants.py")
+
+
+class ReferenceResponse(_Open):
+    constants: list[ConstantOut]
+    sources: dict[str, str]
+    models: dict
+    versions: dict[str, str]
+    limits: dict[str, float | int]
+    caution: str
+
+
+class HealthResponse(_Open):
+    status: str
+    timescale: bool | None = None
+    ephemeris: bool | None = None
+
+
+EXAMPLE_LEO_J2_REQUEST = {
+    "orbit": {
+        "type": "keplerian", "epoch": "2027-05-10T00:00:00Z",
+        "semi_major_axis_km": 7078.137, "eccentricity": 0.0011, "inclination_deg": 97.9,
+        "ra_of_asc_node_deg": 40.0, "arg_of_pericenter_deg": 90.0, "mean_anomaly_deg": 15.0,
+        "j2_secular": True,
+    },
+    "reference": "TAI",
+    "start": "2027-05-10T00:00:00Z", "duration_days": 0.5,
+    "gravity": {"earth_zonal_degree": 4, "sun": True, "moon": True},
+}
+"""An invented sun-synchronous-like low orbit with J2 drift, half a day against TAI."""
+
+EXAMPLE_GROUND_REQUEST = {
+    "orbit": {"type": "surface", "latitude_deg": 47.25, "longitude_deg": 11.4, "height_m": 1200.0,
+              "geoid_undulation_m": 48.0},
+    "reference": "TT",
+    "start": "2027-01-01T00:00:00Z", "duration_days": 1.0,
+}
+"""An invented mountain-laboratory clock against TT."""
+
+EXAMPLE_BATCH_REQUEST = {
+    "defaults": {
+        "reference": "GPS", "start": "2027-03-01T00:00:00Z", "duration_days": 1.0,
+        "gravity": {"earth_zonal_degree": 2, "sun": True, "moon": True},
+    },
+    "items": [
+        {"id": "kestrel-01", "orbit": {"type": "keplerian", "epoch": "2027-03-01T00:00:00Z",
+                                       "semi_major_axis_km": 26561.4, "eccentricity": 0.004,
+                                       "inclination_deg": 55.0, "mean_anomaly_deg": 10.0}},
+        {"id": "kestrel-02", "orbit": {"type": "keplerian", "epoch": "2027-03-01T00:00:00Z",
+                                       "semi_major_axis_km": 26561.4, "eccentricity": 0.012,
+                                       "inclination_deg": 55.0, "ra_of_asc_node_deg": 60.0},
+         "nominal_frequency_hz": 10230000.0},
+    ],
+}
+"""Two invented navigation satellites sharing reference, span and gravity."""

@@ -92,3 +92,46 @@ def budget_from_request(req: BudgetRequest, settings: Settings | None = None) ->
     out["end_utc"] = inputs.span.utc_iso(inputs.span.duration_s)[0]
     out["span_s"] = inputs.span.duration_s
     return out
+
+
+# --- Helpers for batches (additive) ----------------------------------------------------
+
+_SPAN_KEYS = ("end", "duration_days")
+
+
+def merge_item(defaults: dict, item: dict) -> dict:
+    """One batch item over the batch defaults, per top-level key; ``id`` is removed.
+
+    An item that names ``end`` or ``duration_days`` drops both from the defaults, so a
+    default duration and an item's own end do not collide.
+    """
+    base = dict(defaults)
+    if any(k in item for k in _SPAN_KEYS):
+        for k in _SPAN_KEYS:
+            base.pop(k, None)
+    base.update(item)
+    base.pop("id", None)
+    return base
+
+
+def estimate_nodes(req: BudgetRequest, settings: Settings | None = None) -> int:
+    """Cheap up-front estimate of the quadrature nodes one request needs.
+
+    The integrator starts with panels of half an orbital period (at most
+    ``physics.budget.MAX_PANEL_S``, at least ``MIN_PANEL_S``) and
+    ``physics.quadrature.NODES_PER_PANEL`` nodes each; adaptive splitting near a
+    high-eccentricity perigee adds more, which the per-request ``MAX_NODES`` still
+    bounds. Raises ``PhysicsInputError`` for an unusable orbit or span.
+    """
+    import math
+
+    from physics.budget import MAX_PANEL_S, MIN_PANEL_S
+    from physics.quadrature import NODES_PER_PANEL
+
+    settings = settings or get_settings()
+    source = build_source(req.orbit)
+    span = build_span(req, settings)
+    period = source.period_s()
+    panel = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / 2.0)
+    panel = max(MIN_PANEL_S, panel)
+    return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / panel))

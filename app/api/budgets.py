@@ -1,0 +1,265 @@
+"""Budget routes: one request, a batch, and the CSV/text view for spreadsheets."""
+
+from __future__ import annotations
+
+import logging
+from typing import Annotated, Any
+
+from fastapi import APIRouter, Query, Request
+from fastapi.concurrency import run_in_threadpool
+from fastapi.responses import JSONResponse, PlainTextResponse, Response
+from pydantic import ValidationError
+
+from physics.budget import CAUTION
+from physics.errors import PhysicsInputError
+
+from .. import csv_format
+from ..deps import JsonBody, SettingsDep, parse_json
+from ..problems import (
+    TYPE_INTERNAL,
+    TYPE_MALFORMED_BODY,
+    TYPE_TOO_LARGE,
+    ProblemError,
+    physics_problem,
+    problem,
+    validation_errors,
+    validation_problem,
+)
+from ..schemas import (
+    EXAMPLE_BATCH_REQUEST,
+    EXAMPLE_GROUND_REQUEST,
+    EXAMPLE_LEO_J2_REQUEST,
+    EXAMPLE_REQUEST,
+    BatchRequest,
+    BudgetRequest,
+)
+from ..service import budget_from_request, estimate_nodes, merge_item
+from . import openapi_doc as doc
+from .query import BudgetQuery, QueryConflict, to_request, with_parameters
+
+router = APIRouter(prefix="/v1", tags=["budgets"])
+log = logging.getLogger("taubudget.batch")
+
+
+def _validate(body: Any) -> BudgetRequest:
+    try:
+        return BudgetRequest.model_validate(body)
+    except ValidationError as exc:
+        raise ProblemError(**_problem_kwargs(validation_problem(validation_errors(exc, body)))) from exc
+
+
+def _problem_kwargs(p: dict) -> dict:
+    return {"status": p["status"], "title": p["title"], "detail": p["detail"], "type_": p["type"],
+            "errors": p["errors"]}
+
+
+@router.post(
+    "/budgets",
+    summary="Compute the drift budget of one clock",
+    response_class=JSONResponse,
+    responses=doc.responses(200, "BudgetResponse", "The budget", (400, 413, 422)),
+    openapi_extra=doc.json_body("BudgetRequest", {
+        "meo_circular_point_mass": ("Circular MEO orbit, point-mass Earth, against TT",
+                                    EXAMPLE_REQUEST),
+        "leo_j2_tai": ("Low orbit with J2 drift and tides, against TAI", EXAMPLE_LEO_J2_REQUEST),
+        "ground_clock": ("A clock on a mountain laboratory, against TT", EXAMPLE_GROUND_REQUEST),
+    }),
+)
+async def create_budget(body: JsonBody, settings: SettingsDep):
+    """Compute the drift budget of one clock against one reference over one span."""
+    req = _validate(body)
+    result = await run_in_threadpool(budget_from_request, req, settings)
+    return JSONResponse(result)
+
+
+# --- Batch ---------------------------------------------------------------------------
+
+async def _batch_payload(request: Request) -> Any:
+    ctype = request.headers.get("content-type", "")
+    if not ctype.lower().startswith("multipart/form-data"):
+        return parse_json(await request.body())
+    async with request.form() as form:
+        upload = form.get("file")
+        if upload is None or isinstance(upload, str):
+            upload = next((v for v in form.values() if not isinstance(v, str)), None)
+        if upload is None:
+            raise ProblemError(400, "No file uploaded",
+                               "A multipart batch needs the JSON document as a file part named 'file'.",
+                               TYPE_MALFORMED_BODY, [{"pointer": "", "detail": "no file part 'file'"}])
+        raw = await upload.read()
+    return parse_json(raw)
+
+
+def _item_prefix(i: int, top: str | None, item: dict, defaults: dict) -> str:
+    """Point into ``defaults`` when the bad top-level key came from there, else into the item."""
+    if top and top not in item and top in defaults:
+        return "/defaults"
+    return f"/items/{i}"
+
+
+def _item_validation_problem(i: int, exc: ValidationError, merged: dict, item: dict,
+                             defaults: dict) -> dict:
+    errors = []
+    for err in validation_errors(exc, merged):
+        top = err["pointer"].split("/")[1] if err["pointer"] else None
+        errors.append({**err, "pointer": _item_prefix(i, top, item, defaults) + err["pointer"]})
+    return validation_problem(errors, f"Item {i}")
+
+
+def _item_physics_problem(i: int, exc: PhysicsInputError, item: dict, defaults: dict) -> dict:
+    top = exc.field.split(".")[0] if exc.field else None
+    return physics_problem(exc, _item_prefix(i, top, item, defaults))
+
+
+def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
+    if not isinstance(item, dict):
+        return None, validation_problem(
+            [{"pointer": f"/items/{i}", "detail": "each item must be a JSON object (a request with an id)"}],
+            f"Item {i}")
+    if "id" not in item:
+        return None, validation_problem(
+            [{"pointer": f"/items/{i}/id", "detail": "required field is missing: every item needs an id"}],
+            f"Item {i}")
+    ident = item["id"]
+    if isinstance(ident, bool) or not isinstance(ident, str | int) or (
+            isinstance(ident, str) and not 0 < len(ident) <= 200):
+        return ident if isinstance(ident, str | int) and not isinstance(ident, bool) else None, \
+            validation_problem([{"pointer": f"/items/{i}/id",
+                                 "detail": "id must be a string of 1 to 200 characters or an integer"}],
+                               f"Item {i}")
+    if ident in seen:
+        return ident, validation_problem(
+            [{"pointer": f"/items/{i}/id", "detail": f"id {ident!r} is used by an earlier item"}],
+            f"Item {i}")
+    seen.add(ident)
+    return ident, None
+
+
+@router.post(
+    "/budgets/batch",
+    summary="Compute budgets for many clocks",
+    response_class=JSONResponse,
+    responses=doc.responses(200, "BatchResponse", "One result per item, in order", (400, 413, 422)),
+    openapi_extra=doc.batch_body({
+        "two_satellites": ("Two navigation satellites sharing defaults", EXAMPLE_BATCH_REQUEST),
+    }),
+)
+async def create_batch(request: Request, settings: SettingsDep):
+    """Compute one budget per item; a bad item gets its own problem and the others still run."""
+    payload = await _batch_payload(request)
+    try:
+        batch = BatchRequest.model_validate(payload)
+    except ValidationError as exc:
+        raise ProblemError(**_problem_kwargs(validation_problem(validation_errors(exc, payload),
+                                                                "The batch"))) from exc
+    if len(batch.items) > settings.MAX_BATCH_ITEMS:
+        raise ProblemError(
+            413, "Batch too large",
+            f"The batch has {len(batch.items)} items, above this service's limit of "
+            f"{settings.MAX_BATCH_ITEMS} (setting TAUBUDGET_MAX_BATCH_ITEMS); split it.",
+            TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"at most {settings.MAX_BATCH_ITEMS} items"}],
+            limit_name="MAX_BATCH_ITEMS", limit=settings.MAX_BATCH_ITEMS,
+        )
+    defaults = batch.defaults
+    results: list[dict] = []
+    planned: list[tuple[int, BudgetRequest, dict]] = []
+    seen: set = set()
+    total_nodes = 0
+    for i, item in enumerate(batch.items):
+        ident, bad = _item_id(i, item, seen)
+        if bad is None:
+            merged = merge_item(defaults, item)
+            try:
+                req = BudgetRequest.model_validate(merged)
+                total_nodes += estimate_nodes(req, settings)
+                planned.append((i, req, item))
+            except ValidationError as exc:
+                bad = _item_validation_problem(i, exc, merged, item, defaults)
+            except PhysicsInputError as exc:
+                bad = _item_physics_problem(i, exc, item, defaults)
+        results.append({"id": ident, "status": 200 if bad is None else bad["status"],
+                        "budget": None, "problem": bad})
+    if total_nodes > settings.MAX_BATCH_NODES:
+        raise ProblemError(
+            413, "Batch too large",
+            f"The batch needs an estimated {total_nodes} quadrature nodes (items x nodes per item, "
+            f"16 per half orbit), above this service's limit of {settings.MAX_BATCH_NODES} "
+            "(setting TAUBUDGET_MAX_BATCH_NODES); shorten the spans or split the batch.",
+            TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {total_nodes} nodes"}],
+            limit_name="MAX_BATCH_NODES", limit=settings.MAX_BATCH_NODES, estimated_nodes=total_nodes,
+        )
+    for i, req, item in planned:
+        try:
+            results[i]["budget"] = await run_in_threadpool(budget_from_request, req, settings)
+        except PhysicsInputError as exc:
+            results[i]["problem"] = _item_physics_problem(i, exc, item, defaults)
+            results[i]["status"] = 422
+        except Exception:  # a bug in one item must not hide the others' results
+            log.exception("batch item %d failed", i)
+            results[i]["problem"] = problem(500, "Internal error",
+                                            "The service failed on this item; this is a bug in the "
+                                            "service, not in your input.", TYPE_INTERNAL,
+                                            [{"pointer": f"/items/{i}", "detail": "internal error"}])
+            results[i]["status"] = 500
+    ok = sum(1 for r in results if r["status"] == 200)
+    return JSONResponse({"items": results, "succeeded": ok, "failed": len(results) - ok,
+                         "estimated_nodes": total_nodes, "caution": CAUTION})
+
+
+# --- CSV and single numbers for spreadsheets ---------------------------------------------
+
+_FIELD_HINTS = {
+    "preset_frequency_hz": "it needs nominal_frequency_hz",
+    "nominal_frequency_hz": "it needs nominal_frequency_hz",
+    "periodic.dominant_period_s": "the span is too short to tell a period",
+    "eccentricity_correction.analytic_amplitude_ns": "it exists for Keplerian orbits only",
+}
+
+
+def _query_problem(errors: list[dict]) -> ProblemError:
+    errors = with_parameters(errors)
+    return ProblemError(**_problem_kwargs(validation_problem(errors, "The query")))
+
+
+@router.get(
+    "/budgets.csv",
+    summary="A budget as CSV, or one summary number as text",
+    response_class=Response,
+    responses=doc.csv_responses((400, 422)),
+)
+async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep):
+    """The budget of the request spelled as query parameters: CSV, or with field= one number."""
+    try:
+        body = to_request(q)
+    except QueryConflict as exc:
+        errors = [{"pointer": "/orbit", "parameter": n, "detail": exc.detail} for n in exc.names]
+        raise ProblemError(422, "Invalid request", f"The query is invalid: {exc.detail}.",
+                           errors=errors) from exc
+    try:
+        req = BudgetRequest.model_validate(body)
+    except ValidationError as exc:
+        raise _query_problem(validation_errors(exc, body)) from exc
+    try:
+        result = await run_in_threadpool(budget_from_request, req, settings)
+    except PhysicsInputError as exc:
+        p = physics_problem(exc)
+        p["errors"] = with_parameters(p["errors"])
+        raise ProblemError(**_problem_kwargs(p)) from exc
+    if q.field is not None:
+        try:
+            text = csv_format.field_text(result, q.field)
+        except csv_format.MissingValue as exc:
+            why = _FIELD_HINTS.get(q.field, "the budget has no such value")
+            detail = f"{q.field} has no value for this request: {why}"
+            raise ProblemError(422, "No value", detail + ".", errors=[
+                {"pointer": "/field", "parameter": "field", "detail": detail}]) from exc
+        return PlainTextResponse(text)
+    if req.series_step_s is not None:
+        text = csv_format.series_csv(result)
+        name = "budget-series.csv"
+    else:
+        text = csv_format.summary_csv(result)
+        name = "budget.csv"
+    return Response(text, media_type="text/csv; charset=utf-8",
+                    headers={"Content-Disposition": f'inline; filename="{name}"'})
+

@@ -1,0 +1,83 @@
+"""OpenAPI fragments for the routes: request bodies, examples, problem responses.
+
+The routes parse their bodies themselves (to accept JSON without a JSON content
+type), so FastAPI cannot infer the request schemas; these fragments name them by
+reference, and ``app.main`` adds the referenced models to ``components``.
+"""
+
+from __future__ import annotations
+
+from ..problems import PROBLEM_MEDIA_TYPE
+
+_ERROR_TEXT = {
+    400: "Malformed body (not JSON, empty, not UTF-8, or a multipart batch without a file)",
+    413: "Over a size limit (body bytes, batch items or estimated quadrature nodes)",
+    422: "Invalid or physically unusable input; 'errors' names each field by JSON pointer",
+    500: "A bug in the service (never caused by input); no internal details",
+    503: "Not ready: the timescale and ephemeris are not loaded yet",
+}
+
+
+def ref(name: str) -> dict:
+    return {"$ref": f"#/components/schemas/{name}"}
+
+
+def problem_responses(statuses) -> dict:
+    return {s: {"description": _ERROR_TEXT[s], "content": {PROBLEM_MEDIA_TYPE: {"schema": ref("Problem")}}}
+            for s in (*statuses, 500)}
+
+
+def responses(status: int, model: str, description: str, errors, example: dict | None = None) -> dict:
+    content: dict = {"schema": ref(model)}
+    if example is not None:
+        content["example"] = example
+    return {status: {"description": description, "content": {"application/json": content}},
+            **problem_responses(errors)}
+
+
+def _examples(examples: dict) -> dict:
+    return {key: {"summary": summary, "value": value} for key, (summary, value) in examples.items()}
+
+
+def json_body(model: str, examples: dict) -> dict:
+    """A required JSON request body of ``model``; any content type is read as JSON."""
+    return {"requestBody": {
+        "required": True,
+        "description": "JSON; sent without a JSON content type it is still read as JSON.",
+        "content": {"application/json": {"schema": ref(model), "examples": _examples(examples)}},
+    }}
+
+
+def batch_body(examples: dict) -> dict:
+    body = json_body("BatchRequest", examples)
+    body["requestBody"]["content"]["multipart/form-data"] = {
+        "schema": {
+            "type": "object", "required": ["file"],
+            "properties": {"file": {"type": "string", "format": "binary",
+                                    "description": "The batch JSON document as a file"}},
+        },
+    }
+    return body
+
+
+CSV_EXAMPLE = (
+    "# taubudget drift budget; offsets are clock minus reference\r\n"
+    "# caution: Planning estimate only. ...\r\n"
+    "field,value\r\n"
+    "mean_fractional_rate,4.4646999955239707e-10\r\n"
+    "mean_rate_us_per_day,38.57500796132711\r\n"
+)
+
+
+def csv_responses(errors) -> dict:
+    return {
+        200: {
+            "description": "CSV (summary block, or one row per output time with series_step_s); "
+            "with field=, that single value as text/plain at full double precision",
+            "content": {
+                "text/csv": {"schema": {"type": "string"}, "example": CSV_EXAMPLE},
+                "text/plain": {"schema": {"type": "string"}, "example": "38.57500796132711"},
+            },
+        },
+        **problem_responses(errors),
+    }
