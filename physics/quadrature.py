@@ -75,24 +75,26 @@ class PanelIntegral:
     def error_estimate_s(self) -> float:
         return float(self.panel_error_s.sum())
 
-    def cumulative_at(self, t_s: np.ndarray) -> np.ndarray:
-        """(k, M) integral of every row from the span start to each time in ``t_s``."""
+    def cumulative_at(self, t_s: np.ndarray, rows=None) -> np.ndarray:
+        """(k, M) integral of every row (or of ``rows``) from the span start to each time in ``t_s``."""
         t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
         p = np.clip(np.searchsorted(self.edges_s, t_s, side="right") - 1, 0, len(self.edges_s) - 2)
         left, right = self.edges_s[p], self.edges_s[p + 1]
         u = np.clip(2.0 * (t_s - left) / (right - left) - 1.0, -1.0, 1.0)
         vander = leg.legvander(u, NODES_PER_PANEL)  # (M, n+1)
-        inside = np.einsum("mj,kmj->km", vander, self.antideriv[:, p, :])
-        return self.edge_cumulative[:, p] + inside
+        rows = slice(None) if rows is None else np.asarray(rows)
+        inside = np.einsum("mj,kmj->km", vander, self.antideriv[rows][:, p, :])
+        return self.edge_cumulative[rows][:, p] + inside
 
-    def values_at(self, t_s: np.ndarray) -> np.ndarray:
-        """(k, M) the integrand rows' Legendre interpolants at ``t_s``."""
+    def values_at(self, t_s: np.ndarray, rows=None) -> np.ndarray:
+        """(k, M) the integrand rows' (or ``rows``') Legendre interpolants at ``t_s``."""
         t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
         p = np.clip(np.searchsorted(self.edges_s, t_s, side="right") - 1, 0, len(self.edges_s) - 2)
         left, right = self.edges_s[p], self.edges_s[p + 1]
         u = np.clip(2.0 * (t_s - left) / (right - left) - 1.0, -1.0, 1.0)
         vander = leg.legvander(u, NODES_PER_PANEL - 1)
-        return np.einsum("mj,kmj->km", vander, self.coefficients[:, p, :])
+        rows = slice(None) if rows is None else np.asarray(rows)
+        return np.einsum("mj,kmj->km", vander, self.coefficients[rows][:, p, :])
 
     def fine_grid_s(self, points_per_panel: int) -> np.ndarray:
         """Uniform sample times inside every panel (edges included once), s."""
