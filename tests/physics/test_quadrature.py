@@ -52,9 +52,10 @@ def test_legendre_antiderivative_exact_for_smooth_function():
 
 
 @settings(max_examples=30, deadline=None)
-@given(e=st.floats(0.0, 0.8), frac=st.floats(0.2, 3.0), eps=st.floats(1e-6, 1e-2))
+@given(e=st.floats(0.0, 0.75), frac=st.floats(0.2, 3.0), eps=st.floats(1e-6, 1e-2))
 def test_offset_continuous_across_panel_edges(ts, e, frac, eps):
-    # The cumulative offset from the panel to the left and to the right of an edge agree.
+    # The cumulative offset from the panel to the left and to the right of an edge agree
+    # (e <= 0.75 keeps the 30,000 km orbit's perigee above the surface).
     start = ts.utc(2027, 3, 1)
     src = KeplerianOrbit(start, 30000e3, e, 40.0, 0.0, 0.0, 0.0)
     period = src.period_s()
