@@ -69,7 +69,7 @@ class TleOrbit(OrbitSource):
         self.line1, self.line2 = line1, line2
 
     @classmethod
-    def from_satrec(cls, satrec, ts, name: str = "clock") -> "TleOrbit":
+    def from_satrec(cls, satrec, ts, name: str = "clock") -> TleOrbit:
         """Wrap an already initialised ``sgp4.api.Satrec`` (e.g. from ``sgp4init``)."""
         if satrec.error:
             raise PhysicsInputError("orbit", None, f"SGP4 rejects the elements: {SGP4_ERRORS[satrec.error]}")

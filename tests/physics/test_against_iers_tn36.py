@@ -2,9 +2,9 @@
 
 import numpy as np
 import pytest
-from support.budgets import POINT_MASS, kepler_budget
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from support.budgets import POINT_MASS, kepler_budget
 
 from physics.constants import (
     C2_M2_PER_S2,

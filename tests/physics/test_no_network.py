@@ -4,8 +4,8 @@ import socket
 
 import pytest
 
-from physics import ephemeris as eph_mod
 from physics import environment as env_mod
+from physics import ephemeris as eph_mod
 from physics.budget import BudgetInputs, compute_budget
 from physics.orbits import KeplerianOrbit
 from physics.rate import GravityModel

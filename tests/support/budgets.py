@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from physics.budget import BudgetInputs, compute_budget
-from physics.ephemeris import timescale
 from physics.orbits import KeplerianOrbit
 from physics.rate import GravityModel
 from physics.span import Span
