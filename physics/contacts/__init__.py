@@ -28,6 +28,7 @@ from .sync import (
     largest_stride_meeting_budget,
     select_sync_passes,
     simulate_syncs,
+    simulation_grid,
 )
 
 __all__ = [
@@ -35,5 +36,5 @@ __all__ = [
     "SyncPolicy", "SyncSimulation", "clock_error_model", "contact_time_s", "downlink", "elevation_deg",
     "eligible_passes", "find_passes", "greedy_syncs", "largest_stride_meeting_budget",
     "one_way_fractional_shift", "sagnac_correction_s", "satellite_itrs_m", "select_sync_passes",
-    "shapiro_delay_s", "simulate_syncs", "swept_area_m2",
+    "shapiro_delay_s", "simulate_syncs", "simulation_grid", "swept_area_m2",
 ]

@@ -210,4 +210,5 @@ def _make_pass(g, name, k, aos, los, grid, f, cut_start, cut_end, mask) -> Pass:
     for t_edge, is_cut in ((aos, cut_start), (los, cut_end)):
         if is_cut and g(t_edge) > e_max:
             t_max, e_max = t_edge, g(t_edge)
-    return Pass(name, k, float(aos), float(los), t_max, e_max + mask, cut_start, cut_end)
+    return Pass(name, k, float(aos), float(los), float(t_max), float(e_max + mask), bool(cut_start),
+                bool(cut_end))

@@ -165,24 +165,28 @@ def _error_at(t, syncs, err, residual, side="left"):
     t_k = syncs[idx]
     det_clock, sigma = err(t - t_k, t_k)
     det = residual(t) - residual(t_k) + det_clock
-    return det, np.asarray(sigma, dtype=float)
+    return np.array(det, dtype=float), np.array(np.broadcast_to(sigma, det.shape), dtype=float)
 
 
 def simulate_syncs(sync_times_s, span_s: float, err: ErrorModel, residual: Callable, k_sigma: float,
                    budget_s: float, grid_s=None) -> SyncSimulation:
     """Time error of a clock synced at ``sync_times_s`` (TT s since span start) over [0, span_s].
 
+    The per-sync arrays of the result follow the sorted sync times.
+
     ``residual(t_s) -> s``: relativistic offset after preset (vectorised); ``err``:
     ErrorModel; ``budget_s``: allowed |error| for the k-sigma envelope. Model:
     module docstring.
     """
     syncs = np.sort(np.asarray(sync_times_s, dtype=float))
-    syncs = syncs[(syncs > 0.0) & (syncs <= span_s)]
+    if syncs.size and (syncs[0] < 0.0 or syncs[-1] > span_s):
+        raise ValueError("sync times must lie inside [0, span_s]")
     all_syncs = np.concatenate([[0.0], syncs])
     t = simulation_grid(span_s, syncs) if grid_s is None else np.unique(np.concatenate([grid_s, syncs]))
     # Left limit: a sample exactly at a sync instant belongs to the run before it.
     det, sig = _error_at(t, all_syncs, err, residual, side="left")
-    det[0], sig[0] = _error_at(np.array([0.0]), all_syncs, err, residual, side="right")
+    d0, s0 = _error_at(np.array([0.0]), all_syncs, err, residual, side="right")
+    det[0], sig[0] = d0[0], s0[0]
     bound = np.abs(det) + k_sigma * sig
     pre_det, pre_sig = _error_at(syncs, all_syncs, err, residual, side="left")
     post_det, post_sig = _error_at(syncs, all_syncs, err, residual, side="right")
