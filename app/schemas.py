@@ -10,6 +10,8 @@ from typing import Annotated, Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
 
+from physics.clock import PRESETS as _CLOCK_PRESETS
+
 
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid")
@@ -66,6 +68,48 @@ class GravityIn(_Strict):
         return self
 
 
+class HAlphaIn(_Strict):
+    """Power-law noise coefficients h_alpha, keyed by noise name (IEEE Std 1139).
+
+    S_y(f) = sum h_alpha f^alpha; each coefficient is in Hz^(-alpha-1): white_pm (alpha 2,
+    Hz^-3), flicker_pm (1, Hz^-2), white_fm (0, Hz^-1 = s), flicker_fm (-1, dimensionless),
+    random_walk_fm (-2, Hz). Omitted terms are 0. The PM terms need ``f_h_hz``.
+    """
+
+    white_pm: float | None = Field(None, ge=0, description="h_2, Hz^-3 (needs f_h_hz)")
+    flicker_pm: float | None = Field(None, ge=0, description="h_1, Hz^-2 (needs f_h_hz)")
+    white_fm: float | None = Field(None, ge=0, description="h_0, Hz^-1")
+    flicker_fm: float | None = Field(None, ge=0, description="h_-1, dimensionless")
+    random_walk_fm: float | None = Field(None, ge=0, description="h_-2, Hz")
+
+
+_AdevPoint = Annotated[list[Annotated[float, Field(gt=0)]], Field(min_length=2, max_length=2)]
+
+
+class ClockIn(_Strict):
+    """The satellite's oscillator: a preset, or its own noise model, plus ageing and offsets.
+
+    Give ``preset`` (typical figures of a generic oscillator class, to be replaced by your
+    unit's data), or ``h_alpha``, or ``adev_points`` (fitted to h_alpha by least squares).
+    ``drift_per_day`` overrides a preset's ageing. Times are counted from a synchronisation
+    at the start of the span.
+    """
+
+    preset: Literal[tuple(_CLOCK_PRESETS)] | None = Field(  # type: ignore[valid-type]
+        None, description="Generic oscillator class with typical figures (common practice)")
+    h_alpha: HAlphaIn | None = None
+    adev_points: list[_AdevPoint] | None = Field(
+        None, min_length=1, max_length=200,
+        description="Allan deviation points [[tau_s, adev], ...], tau_s in s")
+    drift_per_day: float | None = Field(
+        None, description="Linear fractional frequency drift (ageing) per day; default 0 or the preset's")
+    initial_fractional_frequency: float = Field(
+        0.0, description="Fractional frequency offset left after calibration at the sync")
+    initial_time_offset_ns: float = Field(
+        0.0, description="Time offset at the sync, clock minus reference, ns")
+    f_h_hz: float | None = Field(None, gt=0, description="Measurement bandwidth for the PM terms, Hz")
+
+
 class BudgetRequest(_Strict):
     """One clock, one reference, one span."""
 
@@ -77,6 +121,13 @@ class BudgetRequest(_Strict):
     gravity: GravityIn = Field(default_factory=GravityIn)
     series_step_s: float | None = Field(None, gt=0)
     nominal_frequency_hz: float | None = Field(None, gt=0)
+    clock: ClockIn | None = Field(None, description="The oscillator; adds 'clock_error' to the budget")
+    time_error_budget_ns: float | None = Field(
+        None, gt=0,
+        description="Allowed |time error| after a sync, ns; gives max_free_running_s (needs clock)")
+    k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic time error")
+    apply_eccentricity_correction: bool = Field(
+        True, description="The user segment removes the eccentricity term -(2/c^2) r.v from the residual")
 
     @model_validator(mode="after")
     def _span(self):
@@ -140,6 +191,51 @@ class SeriesOut(_Open):
     eccentricity_term_ns: list[float]
 
 
+class ClockModelOut(_Open):
+    source: Literal["preset", "h_alpha", "adev_points"]
+    name: str
+    label: str = Field(
+        description="What the figures are; presets: typical values, replace with your unit's data")
+    h_alpha: dict[str, float] = Field(description="Coefficients by noise name, IEEE Std 1139 units")
+    drift_per_day: float
+    initial_fractional_frequency: float
+    initial_time_offset_ns: float
+    f_h_hz: float | None
+    fit: dict | None = Field(None, description="Fit of h_alpha to adev_points, with relative residuals")
+
+
+class ClockSeriesOut(_Open):
+    time_utc: list[str]
+    elapsed_s: list[float]
+    deterministic_ns: list[float]
+    sigma_ns: list[float]
+    bound_ns: list[float] = Field(description="|deterministic_ns| + k_sigma * sigma_ns")
+
+
+class ClockErrorOut(_Open):
+    """Time error of the clock after a sync at the span start (clock minus reference), at the span end."""
+
+    elapsed_s: float = Field(description="Time since the sync at which the figures apply (span end), s")
+    relativistic_residual: Literal["after_correction", "after_preset"]
+    relativistic_residual_ns: float
+    initial_time_offset_ns: float
+    initial_frequency_ns: float
+    ageing_ns: float
+    deterministic_ns: float = Field(description="Sum of the four parts above, ns")
+    stochastic_1sigma_ns: float
+    stochastic_1sigma_components_ns: dict[str, float]
+    k_sigma: float
+    k_sigma_bound_ns: float = Field(description="|deterministic_ns| + k_sigma * stochastic_1sigma_ns")
+    time_error_budget_ns: float | None
+    max_free_running_s: float | None = Field(
+        description="Longest time after the sync before the k-sigma bound reaches the budget, s; "
+        "null when not asked or not reached within the span")
+    budget_reached_within_span: bool | None
+    clock_model: ClockModelOut
+    series: ClockSeriesOut | None
+    note: str
+
+
 class BudgetResponse(_Open):
     """A drift budget: the same JSON as ``taubudget budget --json``. Offsets are clock minus reference."""
 
@@ -165,6 +261,7 @@ class BudgetResponse(_Open):
     model: dict
     omitted_terms: list[OmittedTermOut]
     series: SeriesOut | None
+    clock_error: ClockErrorOut | None = Field(None, description="Present when the request has a clock")
     caution: str = Field(description="Planning-estimate caution; travels with every budget")
     reference: str | dict
     start_utc: str
@@ -277,3 +374,34 @@ EXAMPLE_BATCH_REQUEST = {
     ],
 }
 """Two invented navigation satellites sharing reference, span and gravity."""
+
+
+# --- Frequency stability of measured data (additive) ------------------------------------
+
+
+class StabilityRequest(_Strict):
+    """Measured clock data at a uniform sample interval, for ``POST /v1/clock-stability``."""
+
+    data: list[float] = Field(min_length=3, description="Phase (time error, s) or fractional frequency")
+    data_type: Literal["phase", "frequency"] = "phase"
+    sample_interval_s: float = Field(gt=0, description="Sample interval tau0, s")
+    confidence: float = Field(0.683, gt=0, lt=1, description="Two-sided confidence of the bounds")
+
+
+class StabilityResponse(_Open):
+    deviations: list[dict] = Field(
+        description="One row per tau: tau_s; adev, oadev, mdev, hdev, ohdev and tdev_s, each with "
+        "_lower/_upper bounds, _n_terms and _edf")
+    n_samples: int
+    n_phase_points: int
+    data_type: str
+    sample_interval_s: float
+    confidence: float
+    caution: str
+
+
+EXAMPLE_STABILITY_REQUEST = {
+    "data": [892, 809, 823, 798, 671, 644, 883, 903, 677],
+    "data_type": "frequency", "sample_interval_s": 1.0, "confidence": 0.683,
+}
+"""The NBS 9-point data set (NIST SP 1065, Table 30), as fractional frequency."""
