@@ -19,7 +19,7 @@ from physics.budget import CAUTION
 from physics.ephemeris import ephemeris, timescale
 
 from . import problems, schemas
-from .api import budgets, health, reference
+from .api import budgets, clock, health, reference
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
 
@@ -41,6 +41,8 @@ _DOCUMENTED = [
     (schemas.ReferenceResponse, "serialization"),
     (schemas.HealthResponse, "serialization"),
     (schemas.Problem, "serialization"),
+    (schemas.StabilityRequest, "validation"),
+    (schemas.StabilityResponse, "serialization"),
 ]
 
 
@@ -122,6 +124,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     app.add_middleware(BodySizeLimit, max_bytes=settings.MAX_BODY_BYTES)
     app.include_router(budgets.router)
+    app.include_router(clock.router)
     app.include_router(reference.router)
     app.include_router(health.router)
     app.openapi = _openapi(app)

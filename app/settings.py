@@ -19,6 +19,7 @@ class Settings(BaseSettings):
     MAX_BATCH_ITEMS: int = 500
     MAX_BATCH_NODES: int = 20_000_000
     MAX_BODY_BYTES: int = 5_000_000
+    MAX_STABILITY_POINTS: int = 100_000  # ~3.5 s of EDF work per request at the limit
     DEFAULT_HOST: str = "127.0.0.1"
     DEFAULT_PORT: int = 8000
 
