@@ -45,7 +45,26 @@ SUMMARY_FIELDS: tuple[str, ...] = (
 )
 """Names accepted by ``field=``: top-level scalars and dotted paths into the budget JSON."""
 
+CLOCK_SUMMARY_FIELDS: tuple[str, ...] = (
+    "clock_error.deterministic_ns",
+    "clock_error.relativistic_residual_ns",
+    "clock_error.ageing_ns",
+    "clock_error.initial_frequency_ns",
+    "clock_error.initial_time_offset_ns",
+    "clock_error.stochastic_1sigma_ns",
+    "clock_error.k_sigma",
+    "clock_error.k_sigma_bound_ns",
+    "clock_error.time_error_budget_ns",
+    "clock_error.max_free_running_s",
+    "clock_error.budget_reached_within_span",
+    "clock_error.clock_model.name",
+)
+"""Also accepted by ``field=`` and listed in the summary when the request has a clock."""
+
 SERIES_COLUMNS = ("time_utc", "elapsed_s", "offset_ns", "periodic_ns", "eccentricity_term_ns")
+
+CLOCK_SERIES_COLUMNS = ("deterministic_ns", "sigma_ns", "bound_ns")
+"""Added as clock_<name> columns when the budget has a clock (``clock_error.series``)."""
 
 _LINE = "\r\n"  # RFC 4180 line break
 
@@ -78,7 +97,7 @@ def format_value(value: Any) -> str:
 def summary_rows(budget: dict) -> list[tuple[str, Any]]:
     """(field, value) for every summary field present in the budget."""
     rows = []
-    for name in SUMMARY_FIELDS:
+    for name in SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS:
         try:
             rows.append((name, lookup(budget, name)))
         except (KeyError, TypeError):
@@ -118,6 +137,10 @@ def series_csv(budget: dict) -> str:
     series = budget["series"]
     rows = [list(SERIES_COLUMNS)]
     columns = [series[c] for c in SERIES_COLUMNS]
+    clock_series = (budget.get("clock_error") or {}).get("series")
+    if clock_series is not None:
+        rows[0] += [f"clock_{c}" for c in CLOCK_SERIES_COLUMNS]
+        columns += [clock_series[c] for c in CLOCK_SERIES_COLUMNS]
     for values in zip(*columns, strict=True):
         rows.append([format_value(v) for v in values])
     return _render(_header(budget), rows)

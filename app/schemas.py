@@ -76,14 +76,15 @@ class HAlphaIn(_Strict):
     random_walk_fm (-2, Hz). Omitted terms are 0. The PM terms need ``f_h_hz``.
     """
 
-    white_pm: float | None = Field(None, ge=0, description="h_2, Hz^-3 (needs f_h_hz)")
-    flicker_pm: float | None = Field(None, ge=0, description="h_1, Hz^-2 (needs f_h_hz)")
-    white_fm: float | None = Field(None, ge=0, description="h_0, Hz^-1")
-    flicker_fm: float | None = Field(None, ge=0, description="h_-1, dimensionless")
-    random_walk_fm: float | None = Field(None, ge=0, description="h_-2, Hz")
+    # Upper bounds far above any oscillator keep every derived figure a finite double.
+    white_pm: float | None = Field(None, ge=0, le=1e-6, description="h_2, Hz^-3 (needs f_h_hz)")
+    flicker_pm: float | None = Field(None, ge=0, le=1e-6, description="h_1, Hz^-2 (needs f_h_hz)")
+    white_fm: float | None = Field(None, ge=0, le=1e-6, description="h_0, Hz^-1")
+    flicker_fm: float | None = Field(None, ge=0, le=1e-6, description="h_-1, dimensionless")
+    random_walk_fm: float | None = Field(None, ge=0, le=1e-6, description="h_-2, Hz")
 
 
-_AdevPoint = Annotated[list[Annotated[float, Field(gt=0)]], Field(min_length=2, max_length=2)]
+_AdevPoint = Annotated[list[Annotated[float, Field(gt=0, le=1e10)]], Field(min_length=2, max_length=2)]
 
 
 class ClockIn(_Strict):
@@ -102,12 +103,14 @@ class ClockIn(_Strict):
         None, min_length=1, max_length=200,
         description="Allan deviation points [[tau_s, adev], ...], tau_s in s")
     drift_per_day: float | None = Field(
-        None, description="Linear fractional frequency drift (ageing) per day; default 0 or the preset's")
+        None, ge=-1e-6, le=1e-6,
+        description="Linear fractional frequency drift (ageing) per day; default 0 or the preset's")
     initial_fractional_frequency: float = Field(
-        0.0, description="Fractional frequency offset left after calibration at the sync")
+        0.0, ge=-1e-4, le=1e-4, description="Fractional frequency offset left after calibration at the sync")
     initial_time_offset_ns: float = Field(
-        0.0, description="Time offset at the sync, clock minus reference, ns")
-    f_h_hz: float | None = Field(None, gt=0, description="Measurement bandwidth for the PM terms, Hz")
+        0.0, ge=-1e12, le=1e12, description="Time offset at the sync, clock minus reference, ns")
+    f_h_hz: float | None = Field(
+        None, gt=0, le=1e12, description="Measurement bandwidth for the PM terms, Hz")
 
 
 class BudgetRequest(_Strict):
@@ -123,7 +126,7 @@ class BudgetRequest(_Strict):
     nominal_frequency_hz: float | None = Field(None, gt=0)
     clock: ClockIn | None = Field(None, description="The oscillator; adds 'clock_error' to the budget")
     time_error_budget_ns: float | None = Field(
-        None, gt=0,
+        None, gt=0, le=1e15,
         description="Allowed |time error| after a sync, ns; gives max_free_running_s (needs clock)")
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic time error")
     apply_eccentricity_correction: bool = Field(
@@ -382,10 +385,12 @@ EXAMPLE_BATCH_REQUEST = {
 class StabilityRequest(_Strict):
     """Measured clock data at a uniform sample interval, for ``POST /v1/clock-stability``."""
 
-    data: list[float] = Field(min_length=3, description="Phase (time error, s) or fractional frequency")
+    # Bounds keep every sum of squares and every chi-squared quantile a finite double.
+    data: list[Annotated[float, Field(ge=-1e30, le=1e30)]] = Field(
+        min_length=3, description="Phase (time error, s) or fractional frequency")
     data_type: Literal["phase", "frequency"] = "phase"
-    sample_interval_s: float = Field(gt=0, description="Sample interval tau0, s")
-    confidence: float = Field(0.683, gt=0, lt=1, description="Two-sided confidence of the bounds")
+    sample_interval_s: float = Field(ge=1e-12, le=1e9, description="Sample interval tau0, s")
+    confidence: float = Field(0.683, ge=0.01, le=0.9999, description="Two-sided confidence of the bounds")
 
 
 class StabilityResponse(_Open):

@@ -213,6 +213,11 @@ _FIELD_HINTS = {
     "nominal_frequency_hz": "it needs nominal_frequency_hz",
     "periodic.dominant_period_s": "the span is too short to tell a period",
     "eccentricity_correction.analytic_amplitude_ns": "it exists for Keplerian orbits only",
+    **{name: "it needs clock_preset" for name in csv_format.CLOCK_SUMMARY_FIELDS},
+    "clock_error.time_error_budget_ns": "it needs clock_preset and time_error_budget_ns",
+    "clock_error.budget_reached_within_span": "it needs clock_preset and time_error_budget_ns",
+    "clock_error.max_free_running_s": "it needs clock_preset and time_error_budget_ns, and the k-sigma "
+    "bound must reach the budget within the span (see clock_error.budget_reached_within_span)",
 }
 
 

@@ -109,8 +109,9 @@ async def clock_stability(
     settings: SettingsDep,
     data_type: Annotated[Literal["phase", "frequency"] | None, Query(
         description="Upload only: phase (s) or fractional frequency")] = None,
-    sample_interval_s: Annotated[float | None, Query(gt=0, description="Upload only: tau0, s")] = None,
-    confidence: Annotated[float | None, Query(gt=0, lt=1, description="Upload only")] = None,
+    sample_interval_s: Annotated[float | None, Query(
+        ge=1e-12, le=1e9, description="Upload only: tau0, s")] = None,
+    confidence: Annotated[float | None, Query(ge=0.01, le=0.9999, description="Upload only")] = None,
 ):
     """Allan, overlapping Allan, modified Allan, time and Hadamard deviations of measured data."""
     ctype = request.headers.get("content-type", "").lower()

@@ -13,9 +13,9 @@ from typing import Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field
 
-from ..csv_format import SUMMARY_FIELDS
+from ..csv_format import CLOCK_SUMMARY_FIELDS, SUMMARY_FIELDS
 
-SummaryField = Literal[SUMMARY_FIELDS]  # type: ignore[valid-type]
+SummaryField = Literal[SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS]  # type: ignore[valid-type]
 
 
 class BudgetQuery(BaseModel):
@@ -51,6 +51,11 @@ class BudgetQuery(BaseModel):
     sun: bool | None = Field(None, examples=[True])
     moon: bool | None = Field(None, examples=[True])
     nominal_frequency_hz: float | None = Field(None, examples=[10230000.0])
+    # The oscillator (a preset only; the JSON body takes any clock description)
+    clock_preset: str | None = Field(None, max_length=60, examples=["space_rubidium"],
+                                     description="Generic oscillator preset; adds clock_error fields")
+    time_error_budget_ns: float | None = Field(None, examples=[10.0], description="Needs clock_preset")
+    k_sigma: float | None = Field(None, examples=[3.0])
     field: SummaryField | None = Field(
         None, description="Return only this summary field, as text/plain",
         examples=["mean_rate_us_per_day"],
@@ -70,7 +75,8 @@ _SURFACE = {
 }
 _FAMILIES = {"keplerian": _KEPLER, "tle": _TLE, "surface": _SURFACE}
 _GRAVITY = ("earth_zonal_degree", "sun", "moon")
-_TOP = ("reference", "start", "end", "duration_days", "series_step_s", "nominal_frequency_hz")
+_TOP = ("reference", "start", "end", "duration_days", "series_step_s", "nominal_frequency_hz",
+        "time_error_budget_ns", "k_sigma")
 
 
 class QueryConflict(ValueError):
@@ -114,6 +120,8 @@ def to_request(q: BudgetQuery) -> dict[str, Any]:
     gravity = {n: getattr(q, n) for n in _GRAVITY if getattr(q, n) is not None}
     if gravity:
         body["gravity"] = gravity
+    if q.clock_preset is not None:
+        body["clock"] = {"preset": q.clock_preset}
     return body
 
 
@@ -121,6 +129,7 @@ _POINTER_TO_PARAM = {
     **{f"/orbit/{key}": param for fam in _FAMILIES.values() for param, key in fam.items()},
     **{f"/gravity/{n}": n for n in _GRAVITY},
     **{f"/{n}": n for n in _TOP},
+    "/clock/preset": "clock_preset",
 }
 
 
