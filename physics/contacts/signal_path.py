@@ -99,10 +99,12 @@ class SignalPath:
     sagnac_correction_s: np.ndarray
     earth_fixed_range_m: np.ndarray
     range_rate_m_per_s: np.ndarray
-    fractional_frequency_shift: np.ndarray
-    first_order_doppler_shift: np.ndarray
-    gravitational_shift: np.ndarray
-    time_dilation_shift: np.ndarray
+    fractional_frequency_shift: np.ndarray  # f_R/f_E - 1, complete
+    first_order_doppler_shift: np.ndarray  # n.(v_E - v_R)/c
+    gravitational_shift: np.ndarray  # (U_R - U_E)/c^2
+    time_dilation_shift: np.ndarray  # (v_R^2 - v_E^2)/(2 c^2), GCRS velocities
+    doppler_factor_m1: np.ndarray  # dt_E/dt_R - 1 (kinematic, all orders)
+    proper_rate_ratio_m1: np.ndarray  # (dtau_E/dt)/(dtau_R/dt) - 1
 
 
 def downlink(source, station, span, t_receive_s, env, gravity: GravityModel | None = None) -> SignalPath:
@@ -144,4 +146,6 @@ def downlink(source, station, span, t_receive_s, env, gravity: GravityModel | No
         range_rate_m_per_s=-np.einsum("ni,ni->n", n_hat, v_e - v_r),
         fractional_frequency_shift=shift, first_order_doppler_shift=doppler,
         gravitational_shift=grav, time_dilation_shift=dil,
+        doppler_factor_m1=one_way_fractional_shift(0.0, 0.0, n_hat, v_e, v_r),
+        proper_rate_ratio_m1=(y_e - y_r) / (1.0 + y_r),
     )
