@@ -45,7 +45,8 @@ def constants_table() -> tuple[dict, ...]:
         if isinstance(value, ast.Constant) and isinstance(value.value, str):
             doc_text = " ".join(value.value.split())
         for name in names:
-            if name.startswith("_") or not name.isupper():
+            # hasattr: the file on disk may be newer than the imported module
+            if name.startswith("_") or not name.isupper() or not hasattr(constants_mod, name):
                 continue
             out.append({"name": name, "value": _jsonable(getattr(constants_mod, name)), "doc": doc_text})
     return tuple(out)
