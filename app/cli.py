@@ -1,4 +1,4 @@
-"""Command line: ``taubudget budget REQUEST.json [--json]`` and ``taubudget serve``.
+"""Command line: ``taubudget budget REQUEST.json``, ``taubudget stability FILE``, ``taubudget serve``.
 
 The budget verb reads the same JSON body as ``POST /v1/budgets`` and prints a
 readable table, or with ``--json`` exactly the response JSON. Exit codes:
@@ -68,9 +68,111 @@ def render_table(b: dict) -> str:
     out.append("omitted terms (size, fractional):")
     for term in b["omitted_terms"]:
         out.append(f"  {term['term']:<{width + 16}}  {term['size_fractional']:.1e}")
+    ce = b.get("clock_error")
+    if ce:
+        out.append("")
+        out += _clock_rows(ce, width)
     out.append("")
     out.append(b["caution"])
     return "\n".join(out)
+
+
+def _clock_rows(ce: dict, width: int) -> list[str]:
+    m = ce["clock_model"]
+    rows = [
+        ("clock model", f"{m['name']} ({m['source']})"),
+        ("", m["label"] if m["source"] != "preset" else "typical values, replace with your unit's data"),
+        (f"at {ce['elapsed_s'] / 86400:.6f} d after sync", ""),
+        ("  relativistic residual",
+         f"{ce['relativistic_residual_ns']:.6f} ns ({ce['relativistic_residual']})"),
+        ("  ageing", f"{ce['ageing_ns']:.6f} ns"),
+        ("  initial frequency", f"{ce['initial_frequency_ns']:.6f} ns"),
+        ("  initial offset", f"{ce['initial_time_offset_ns']:.6f} ns"),
+        ("  deterministic", f"{ce['deterministic_ns']:.6f} ns"),
+        ("  stochastic 1-sigma", f"{ce['stochastic_1sigma_ns']:.6f} ns"),
+        (f"  {ce['k_sigma']:g}-sigma bound", f"{ce['k_sigma_bound_ns']:.6f} ns"),
+    ]
+    if ce.get("time_error_budget_ns") is not None:
+        if ce["budget_reached_within_span"]:
+            free = f"{ce['max_free_running_s']:.1f} s ({ce['max_free_running_s'] / 3600:.3f} h)"
+        else:
+            free = "budget not reached within the span"
+        rows.append((f"max free-running ({ce['time_error_budget_ns']:g} ns)", free))
+    w = max(width, *(len(k) for k, _ in rows))
+    return ["clock error (clock minus reference, sync at the span start):"] + [
+        f"{k:<{w}}  {v}".rstrip() for k, v in rows]
+
+
+_STAT_COLUMNS = (("adev", "adev"), ("oadev", "oadev"), ("mdev", "mdev"), ("tdev_s", "tdev (s)"),
+                 ("hdev", "hdev"))
+
+
+def render_stability(r: dict) -> str:
+    """A plain-text deviations table for a terminal."""
+    out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s; "
+           f"bounds at {r['confidence']:g} confidence; value [lower, upper] (terms)"]
+    head = f"{'tau_s':>12}" + "".join(f"  {label:>30}" for _, label in _STAT_COLUMNS)
+    out.append(head)
+    for row in r["deviations"]:
+        cells = [f"{row['tau_s']:>12.6g}"]
+        for key, _ in _STAT_COLUMNS:
+            base = key.removesuffix("_s")
+            suffix = "_s" if key.endswith("_s") else ""
+            value, lo, hi = row[key], row[f"{base}_lower{suffix}"], row[f"{base}_upper{suffix}"]
+            n = row[f"{base}_n_terms"]
+            if value is None:
+                cells.append(f"  {'-':>30}")
+            else:
+                lo_t = "-" if lo is None else f"{lo:.4g}"
+                hi_t = "-" if hi is None else f"{hi:.4g}"
+                cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>30}")
+        out.append("".join(cells))
+    out.append("")
+    out.append(r["caution"])
+    return "\n".join(out)
+
+
+def cmd_stability(args) -> int:
+    from .column_text import ColumnError, parse_column
+    from .service import stability_from_data
+
+    try:
+        if args.file == "-":
+            text = sys.stdin.read()
+        else:
+            with open(args.file, encoding="utf-8-sig") as fh:
+                text = fh.read()
+        column = parse_column(text)
+    except (OSError, UnicodeDecodeError) as exc:
+        print(f"cannot read {args.file}: {exc}", file=sys.stderr)
+        return 2
+    except ColumnError as exc:
+        print(f"invalid data in {args.file}: {exc}", file=sys.stderr)
+        return 2
+    meta = column.metadata
+    data_type = args.data_type or meta.get("data_type", "phase")
+    if data_type not in ("phase", "frequency"):
+        print(f"invalid data_type {data_type!r}: use phase or frequency", file=sys.stderr)
+        return 2
+    tau0 = args.sample_interval_s
+    if tau0 is None:
+        try:
+            tau0 = float(meta["sample_interval_s"])
+        except (KeyError, ValueError):
+            print("give --sample-interval-s (or a '# sample_interval_s: S' line in the file)",
+                  file=sys.stderr)
+            return 2
+    try:
+        result = stability_from_data(column.values, data_type, tau0, args.confidence)
+    except PhysicsInputError as exc:
+        print(f"invalid input: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
+        return 2
+    if args.json:
+        json.dump(result, sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    else:
+        print(render_stability(result))
+    return 0
 
 
 def cmd_budget(args) -> int:
@@ -116,6 +218,15 @@ def build_parser() -> argparse.ArgumentParser:
     b.add_argument("request")
     b.add_argument("--json", action="store_true", help="print the response JSON")
     b.set_defaults(func=cmd_budget)
+    st = sub.add_parser("stability", help="ADEV, OADEV, MDEV, TDEV, HDEV of one column of measured data")
+    st.add_argument("file", help="one number per line ('#' comments; '-' for stdin)")
+    st.add_argument("--data-type", choices=("phase", "frequency"), default=None,
+                    help="phase (s) or fractional frequency; default: the file's header, else phase")
+    st.add_argument("--sample-interval-s", type=float, default=None,
+                    help="sample interval, s; default: the file's '# sample_interval_s:' line")
+    st.add_argument("--confidence", type=float, default=0.683, help="two-sided confidence of the bounds")
+    st.add_argument("--json", action="store_true", help="print the response JSON")
+    st.set_defaults(func=cmd_stability)
     sv = sub.add_parser("serve", help="run the HTTP service")
     sv.add_argument("--host", default=s.DEFAULT_HOST)
     sv.add_argument("--port", type=int, default=s.DEFAULT_PORT)
