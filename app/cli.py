@@ -111,7 +111,7 @@ def render_stability(r: dict) -> str:
     """A plain-text deviations table for a terminal."""
     out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s; "
            f"bounds at {r['confidence']:g} confidence; value [lower, upper] (terms)"]
-    head = f"{'tau_s':>12}" + "".join(f"  {label:>30}" for _, label in _STAT_COLUMNS)
+    head = f"{'tau_s':>12}" + "".join(f"  {label:>40}" for _, label in _STAT_COLUMNS)
     out.append(head)
     for row in r["deviations"]:
         cells = [f"{row['tau_s']:>12.6g}"]
@@ -121,11 +121,11 @@ def render_stability(r: dict) -> str:
             value, lo, hi = row[key], row[f"{base}_lower{suffix}"], row[f"{base}_upper{suffix}"]
             n = row[f"{base}_n_terms"]
             if value is None:
-                cells.append(f"  {'-':>30}")
+                cells.append(f"  {'-':>40}")
             else:
                 lo_t = "-" if lo is None else f"{lo:.4g}"
                 hi_t = "-" if hi is None else f"{hi:.4g}"
-                cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>30}")
+                cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>40}")
         out.append("".join(cells))
     out.append("")
     out.append(r["caution"])
