@@ -42,6 +42,7 @@ SUMMARY_FIELDS: tuple[str, ...] = (
     "start_utc",
     "end_utc",
     "span_s",
+    "frame",
 )
 """Names accepted by ``field=``: top-level scalars and dotted paths into the budget JSON."""
 

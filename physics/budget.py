@@ -44,10 +44,34 @@ from .constants import (
 from .environment import environment_for
 from .ephemeris import DE421_FIRST_JD_TDB, DE421_LAST_JD_TDB
 from .errors import PhysicsInputError
+from .orbits.barycentric import BarycentricSource, EarthSourceInBcrs
 from .potential.earth import omitted_zonal_size
 from .quadrature import DEFAULT_TOL_FRACTIONAL, NodeBudgetExceeded, integrate
 from .rate import TERM_NAMES, GravityModel, integrand_terms
+from .rate_bcrs import BCRS_REFERENCES, BCRS_TERM_NAMES, bcrs_integrand_terms
+from .solar_system import solar_system_for
 from .span import Span
+
+BCRS_ONLY_REFERENCES = ("TCB", "TDB", "lunar_surface")
+TT_FAR_FROM_EARTH = (
+    "TT is taken along the geocentre: dTT/dTCB = (1 - L_G)(1 - (v_E^2/2 + U_ext(x_E))/c^2) "
+    "(IERS Conventions 2010, TN36 eq. 10.4 without the position term v_E.(x - x_E)/c^2)"
+)
+
+
+def choose_frame(source, reference) -> str:
+    """GCRS for Earth-centred clocks against Earth references; BCRS otherwise.
+
+    The boundary: a clock whose source is Earth-centred (Keplerian around the
+    Earth, TLE, Earth surface) is computed in the GCRS unless the reference is a
+    barycentric or lunar scale; every other source is computed in the BCRS.
+    The GCRS tidal expansion holds well inside the Earth's Hill sphere (~1.5e6 km).
+    """
+    if getattr(source, "frame", "GCRS") == "BCRS":
+        return "BCRS"
+    if isinstance(reference, str) and reference in BCRS_ONLY_REFERENCES:
+        return "BCRS"
+    return "GCRS"
 
 CAUTION = (
     "Planning estimate only. These figures come from a first-order relativistic model with the "
@@ -85,6 +109,7 @@ class BudgetInputs:
     max_series_points: int = 200_000
     tol_fractional: float = DEFAULT_TOL_FRACTIONAL
     nodes_scale: float = 1.0  # > 1 shrinks the initial panels (convergence checks)
+    frame: str | None = None  # None: automatic (``choose_frame``); "GCRS" or "BCRS" to force
 
 
 def _check_span(span: Span):
@@ -103,10 +128,6 @@ def _initial_panel_s(source, nodes_scale: float) -> float:
     period = source.period_s()
     base = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / 2.0)
     return max(MIN_PANEL_S, base) / nodes_scale
-
-
-def _row_index(name: str) -> int:
-    return 1 + TERM_NAMES.index(name)
 
 
 def _fit_secular(t_s, weights, rows, period_s, span_s):
@@ -227,6 +248,58 @@ def _omitted_terms(inputs: BudgetInputs, mean_r_m: float) -> list[dict]:
     return out
 
 
+def _near_base_body(src, ref, span, ss, env) -> bool:
+    """Whether the clock stays within POSITION_TERM_RANGE_M of the position term's base body."""
+    from .rate_bcrs import POSITION_TERM_RANGE_M, position_term_base
+
+    t = np.linspace(0.0, span.duration_s, 33)
+    base = position_term_base(ref)
+    x = src.states_bcrs(span, t, ss, env.orientation).r_m
+    return bool(np.max(np.linalg.norm(x - ss.position_m(base, t), axis=1)) < POSITION_TERM_RANGE_M)
+
+
+def _omitted_terms_bcrs(src, grav) -> list[dict]:
+    out = [
+        {"term": "post_newtonian_c4", "size_fractional": 1e-16,
+         "note": "O(c^-4) terms of the BCRS metric: (U/c^2)^2 ~ 1e-16 at 1 au (TN36 section 10.1)"},
+        {"term": "asteroids_and_minor_bodies", "size_fractional": 1e-17,
+         "note": "not in the potential sum; TN36 attributes ~1.15e-16 of L_C to c^-4 terms and asteroids"},
+        {"term": "planetary_oblateness_and_satellites", "size_fractional": 1e-18,
+         "note": "planets are point masses at their system barycentres"},
+    ]
+    center = getattr(src, "center", None)
+    if center == "moon":
+        out.append({"term": "moon_zonal_harmonics", "size_fractional": 2.03e-4 * 0.5 * 2.82e6 / C2_M2_PER_S2,
+                    "note": "lunar J2 = 2.03e-4 (common practice) at the surface; point-mass Moon used"})
+    if center == "mars":
+        out.append({"term": "mars_zonal_harmonics", "size_fractional": 1.96e-3 * 0.5 * 1.26e7 / C2_M2_PER_S2,
+                    "note": "Mars J2 = 1.96e-3 (common practice) at the surface; point-mass Mars used"})
+    if isinstance(src, EarthSourceInBcrs):
+        out.append({"term": "gcrs_to_bcrs_lorentz_terms", "size_fractional": 1e-16,
+                    "note": "the geocentric state is added to the geocentre's without the O(c^-2) "
+                    "Lorentz terms of the transformation"})
+    return out
+
+
+def _signal_path_to_earth(src, span, t_s, ss, orientation) -> dict:
+    """One-way light time and solar Shapiro delay between the clock and the geocentre, s.
+
+    Light time |x - x_E|/c (geometric, at the same coordinate time); Shapiro delay
+    (2 GM_sun/c^3) ln((r1 + r2 + rho)/(r1 + r2 - rho)) (TN36 eq. 11.17, Sun only).
+    """
+    from .constants import C_M_PER_S
+
+    st = src.states_bcrs(span, t_s, ss, orientation)
+    xe = ss.position_m("earth", t_s)
+    xs = ss.position_m("sun", t_s)
+    rho = np.linalg.norm(st.r_m - xe, axis=1)
+    r1 = np.linalg.norm(st.r_m - xs, axis=1)
+    r2 = np.linalg.norm(xe - xs, axis=1)
+    shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
+    return {"light_time_to_earth_s": (rho / C_M_PER_S).tolist(),
+            "shapiro_delay_to_earth_s": shapiro.tolist()}
+
+
 @dataclass
 class Budget:
     """A computed budget; ``to_dict`` gives the public JSON shape.
@@ -271,10 +344,31 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     _check_span(span)
     env = environment_for(span)
     src, ref, grav = inputs.source, inputs.reference, inputs.gravity
-    rows_names = ("total",) + TERM_NAMES + ("r_dot_v",)
+    frame = inputs.frame or choose_frame(src, ref)
+    if frame == "BCRS":
+        if not isinstance(ref, str) or ref not in BCRS_REFERENCES:
+            raise PhysicsInputError(
+                "reference", None if not isinstance(ref, str) else ref,
+                "a barycentric (BCRS) budget takes the references TT, TAI, GPS, TCG, TCB, TDB or "
+                "lunar_surface; a ground reference clock is only available near the Earth (GCRS)",
+            )
+        ss = solar_system_for(span)
+        bsrc = src if isinstance(src, BarycentricSource) else EarthSourceInBcrs(src)
+        term_names = BCRS_TERM_NAMES
+        primary_term = bsrc.primary_term
+
+        def evaluate(t_s):
+            return bcrs_integrand_terms(bsrc, ref, t_s, grav, ss, env.orientation, span)
+    else:
+        term_names = TERM_NAMES
+        primary_term = "monopole"
+
+        def evaluate(t_s):
+            return integrand_terms(src, ref, t_s, grav, env)
+    rows_names = ("total",) + term_names + ("r_dot_v",) + (("ve_dot_r",) if frame == "BCRS" else ())
 
     def fun(t_s):
-        nr = integrand_terms(src, ref, t_s, grav, env)
+        nr = evaluate(t_s)
         if (nr.code != 0).any():
             first = int(np.argmax(nr.code != 0))
             msg = nr.messages.get(int(nr.code[first]), "propagation failed")
@@ -283,8 +377,9 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
                 "orbit", None, f"the orbit cannot be propagated over the span: at {when} SGP4 "
                 f"reports error {int(nr.code[first])}: {msg}",
             )
-        terms = [nr.terms[name] for name in TERM_NAMES]
-        return np.vstack([nr.total] + terms + [nr.r_dot_v_m2_per_s])
+        terms = [nr.terms[name] for name in term_names]
+        extra = [nr.v_earth_dot_r_m2_per_s] if frame == "BCRS" else []
+        return np.vstack([nr.total] + terms + [nr.r_dot_v_m2_per_s] + extra)
 
     try:
         q = integrate(
@@ -308,21 +403,35 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     ecc = -2.0 * ecc_scale * (rv - rv0)
     total = cum[0]
     corrected = total - ecc
-    term_rows = {name: cum[_row_index(name)] for name in TERM_NAMES}
+    term_rows = {name: cum[1 + i] for i, name in enumerate(term_names)}
+    # Each of the velocity and the primary's potential carries half the eccentricity term.
     term_rows["velocity"] = term_rows["velocity"] - 0.5 * ecc
-    term_rows["monopole"] = term_rows["monopole"] - 0.5 * ecc
+    term_rows[primary_term] = term_rows[primary_term] - 0.5 * ecc
+    position_term = np.zeros_like(total)
+    if frame == "BCRS" and _near_base_body(bsrc, ref, span, ss, env):
+        # With TT along the geocentre, the offset carries -(v_E.(x - x_E))/c^2 (the position
+        # term of TN36 eq. 10.4), a bounded total derivative: remove it before the secular fit,
+        # like the eccentricity term, and book its share against the velocity term.
+        ve_row = rows_names.index("ve_dot_r")
+        ver = q.values_at(t_fine, rows=[ve_row])[0]
+        ver0 = q.values_at(np.array([0.0]), rows=[ve_row])[0][0]
+        position_term = -(ver - ver0) / C2_M2_PER_S2
+        corrected = corrected - position_term
+        term_rows["velocity"] = term_rows["velocity"] - position_term
 
     period = src.period_s()
     weights = _trapezoid_weights(t_fine)
-    fit_rows = np.vstack([corrected] + [term_rows[n] for n in TERM_NAMES] + [total])
+    fit_rows = np.vstack([corrected] + [term_rows[n] for n in term_names] + [total])
     coef, basis = _fit_secular(t_fine, weights, fit_rows, period, span.duration_s)
     slope = coef[:, 1]
     rate_vs_tt = slope[0]
-    term_slopes = dict(zip(TERM_NAMES, slope[1:1 + len(TERM_NAMES)], strict=True))
+    term_slopes = dict(zip(term_names, slope[1:1 + len(term_names)], strict=True))
     harmonic_total = coef[-1, 2:] if coef.shape[1] > 2 else None
 
     # Reference's own rate against TT, to express rates per reference second.
-    if isinstance(ref, str):
+    if frame == "BCRS":
+        y_ref = -term_slopes["reference"]
+    elif isinstance(ref, str):
         y_ref = 0.0 if ref in ("TT", "TAI", "GPS") else L_G / (1.0 - L_G)
     else:
         y_ref = -term_slopes["reference_clock"]
@@ -332,7 +441,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     tc = t_fine - 0.5 * span.duration_s
     periodic = total - rate_vs_tt * tc
     periodic = periodic - np.sum(weights * periodic) / np.sum(weights)
-    residual = corrected - rate_vs_tt * tc
+    residual = corrected + position_term - rate_vs_tt * tc
     residual = residual - np.sum(weights * residual) / np.sum(weights)
 
     p2p = float(periodic.max() - periodic.min())
@@ -340,10 +449,13 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     ecc_amp = 0.5 * float(ecc.max() - ecc.min())
     i_ext = int(np.argmax(np.abs(total)))
 
-    states0 = src.states(span, np.array([0.0]), env.orientation)
-    mean_r = float(np.linalg.norm(states0.r_gcrs_m[0]))
-    if src.kind == "keplerian":
-        mean_r = src.a_m
+    if frame == "GCRS":
+        states0 = src.states(span, np.array([0.0]), env.orientation)
+        mean_r = float(np.linalg.norm(states0.r_gcrs_m[0]))
+        if src.kind == "keplerian":
+            mean_r = src.a_m
+    else:
+        mean_r = float(getattr(src, "a_m", 0.0))
 
     preset = 1.0 / (1.0 + mean_rate) - 1.0
     data = {
@@ -381,25 +493,45 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
         data["eccentricity_correction"]["analytic_amplitude_ns"] = float(
             2.0 * np.sqrt(src.a_m * src.gm) * src.e / C2_M2_PER_S2 * 1e9
         )
+    data["frame"] = frame
     data["model"] = {
         "frame": "GCRS",
         "coordinate_time": "TCG",
         "rate_equation": "dtau/dTCG = 1 - (v^2/2 + U_E + U_tid)/c^2 (IERS Conventions 2010, "
         "TN36 eq. 10.6); dTT/dTCG = 1 - L_G",
-        "included_terms": [k for k in TERM_NAMES if np.any(np.abs(cum[_row_index(k)]) > 0)],
+        "included_terms": [k for i, k in enumerate(term_names) if np.any(np.abs(cum[1 + i]) > 0)],
         "earth_field": "GRS80 normal field + gamma*N (ground clock)" if src.is_surface
         else ("point mass" if grav.earth_zonal_degree == 0
               else f"EGM2008 zonal J2..J{grav.earth_zonal_degree}"),
         "tides": list(grav.bodies()),
         "ephemeris": "JPL DE421 (skyfield-data), coarse grid + cubic spline",
         "orbit": src.describe(),
-        "omitted_terms": _omitted_terms(inputs, mean_r),
+        "omitted_terms": _omitted_terms(inputs, mean_r) if frame == "GCRS" else [],
         "secular_fit": "line fitted to the eccentricity-corrected offset"
         + (f" jointly with {HARMONICS} harmonics of the {period:.1f} s orbital period"
            if period is not None and span.duration_s >= period else ""),
         "integration": f"adaptive Gauss-Legendre panels, {q.nodes_s.shape[1]} nodes each, "
         f"tolerance {inputs.tol_fractional:g} s/s",
     }
+    if frame == "BCRS":
+        data["model"].update({
+            "frame": "BCRS",
+            "coordinate_time": "TCB",
+            "rate_equation": "dtau/dTCB = 1 - (v^2/2 + sum_b GM_b/|x - x_b|)/c^2 (first order, "
+            "TN36 eq. 10.3); TDB = TCB - L_B (TCB - T0) + TDB0 (TN36 eq. 10.1)",
+            "tt_convention": TT_FAR_FROM_EARTH,
+            "tides": "full potentials of the Sun, Moon and planets (system barycentres), DE421",
+            "orbit": (bsrc.describe()),
+            "omitted_terms": _omitted_terms_bcrs(bsrc, grav),
+        })
+        data["tt_convention"] = TT_FAR_FROM_EARTH
+        data["position_term"] = {
+            "amplitude_ns": 0.5 * float(position_term.max() - position_term.min()) * 1e9,
+            "note": "-(v_B.(x - x_B))/c^2 with B the Earth (the Moon for lunar_surface): for TT the part "
+            "of TCB - TCG that TT along the geocentre leaves out (TN36 eq. 10.4); a bounded total "
+            "derivative, kept in the offset and the periodic part, removed before the secular fit "
+            "(only for clocks within 2e6 km of B)",
+        }
     data["omitted_terms"] = data["model"]["omitted_terms"]
 
     if inputs.series_step_s:
@@ -426,6 +558,8 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             "periodic_ns": (per_out * 1e9).tolist(),
             "eccentricity_term_ns": (ecc_out * 1e9).tolist(),
         }
+        if frame == "BCRS":
+            data["series"].update(_signal_path_to_earth(bsrc, span, ts_out, ss, env.orientation))
     else:
         data["series"] = None
     data["caution"] = CAUTION

@@ -183,3 +183,20 @@ SECONDS_PER_DAY = 86_400.0
 
 AU_M = 149_597_870_700.0
 """Astronomical unit, m (defining; IAU 2012 Resolution B2, TN36 Table 1.1)."""
+
+# --- Other bodies (radii for surface clocks and perigee checks) ---------------
+
+SUN_NOMINAL_RADIUS_M = 695_700_000.0
+"""Nominal solar radius, m (IAU 2015 Resolution B3)."""
+
+MARS_MEAN_RADIUS_M = 3_389_500.0
+"""Mean radius of Mars, m (IAU WGCCRE 2015, Archinal et al. 2018)."""
+
+MOON_ANOMALISTIC_MONTH_S = 27.554550 * 86_400.0
+"""Anomalistic month, s (common practice; mean value for J2000)."""
+
+MARS_SIDEREAL_PERIOD_S = 686.980 * 86_400.0
+"""Sidereal orbital period of Mars, s (common practice)."""
+
+OBLIQUITY_J2000_RAD = 84_381.406 / 3600.0 * math.pi / 180.0
+"""Mean obliquity of the ecliptic at J2000.0, rad (IAU 2006 precession, TN36 eq. 5.40)."""

@@ -22,10 +22,23 @@ class States:
     v_gcrs_m_per_s: np.ndarray
     code: np.ndarray  # int, 0 where the state is valid
     messages: dict[int, str] = field(default_factory=dict)
+    r_dot_v_m2_per_s: np.ndarray | None = None  # relative to the primary (BCRS sources)
+    r_geocentric_m: np.ndarray | None = None  # Earth-centred sources carried into the BCRS
+    frame: str = "GCRS"  # "BCRS" for barycentric sources: then the r/v arrays are BCRS vectors
 
     @property
     def ok(self) -> np.ndarray:
         return self.code == 0
+
+    @property
+    def r_m(self) -> np.ndarray:
+        """Position in this States' ``frame``, m."""
+        return self.r_gcrs_m
+
+    @property
+    def v_m_per_s(self) -> np.ndarray:
+        """Velocity in this States' ``frame``, m/s."""
+        return self.v_gcrs_m_per_s
 
 
 class OrbitSource:
@@ -38,6 +51,7 @@ class OrbitSource:
 
     kind = "abstract"
     is_surface = False
+    frame = "GCRS"
 
     def states(self, span, t_s: np.ndarray, orientation) -> States:  # pragma: no cover
         raise NotImplementedError

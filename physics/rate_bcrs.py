@@ -1,0 +1,125 @@
+"""Fractional rate of a clock far from the Earth, in the BCRS with TCB as coordinate time.
+
+    dtau/dTCB = 1 - (1/c^2) [ v^2/2 + sum_b GM_b / |x - x_b| ]
+
+(first order; TN36 eq. 10.3 without the O(c^-4) terms, which are ~1e-16 and
+are reported as omitted). The Earth's term uses its EGM2008 zonal field near
+the Earth (within ``EARTH_ZONAL_RANGE_M``); other bodies are point masses
+(planets: system barycentres).
+
+As near the Earth, the integrand is g = y_clock - y_ref, each against TT per
+TT second, with TT taken *along the geocentre* (TN36 eq. 10.4 without the
+position term v_E . (x - x_E)/c^2; the budget states this convention):
+
+    dTT/dTCB = (1 - L_G) (1 - (v_E^2/2 + U_ext(x_E))/c^2) = 1 + d,
+    y_clock,TT = (y_clock,TCB - d)/(1 + d)   (exact; avoids 1 + y cancellation)
+
+References: TT/TAI/GPS (0), TCG (L_G/(1 - L_G)), TCB (-d/(1 + d)), TDB
+((-L_B - d)/(1 + d), TN36 eq. 10.1), and ``lunar_surface``: an ideal clock on
+the Moon's mean equatorial sphere (radius 1737.4 km), with its rotation speed,
+the Moon's self-potential GM_M/R_M and the external potential at the Moon's
+centre (the first-order tidal part averages out over longitude).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .body_rotation import MOON_ROTATION_RATE_RAD_PER_S
+from .constants import C2_M2_PER_S2, GM_MOON_M3_PER_S2, L_B, L_G, MOON_MEAN_RADIUS_M
+from .potential.earth import earth_potential
+from .rate import NodeRates
+from .solar_system import GM_M3_PER_S2, PLANETS
+
+BCRS_TERM_NAMES = ("velocity", "sun", "earth", "moon", "planets", "time_scale", "reference")
+BCRS_REFERENCES = ("TT", "TAI", "GPS", "TCG", "TCB", "TDB", "lunar_surface")
+EARTH_ZONAL_RANGE_M = 5.0e8
+"""Beyond this geocentric distance the Earth is a point mass (J2 term < 1e-19 there)."""
+
+
+def _external_potential(x, ss, t_s, exclude: str, gravity) -> np.ndarray:
+    total = np.zeros(len(x))
+    for body in ("sun", "earth", "moon") + PLANETS:
+        if body == exclude or (body == "sun" and not gravity.sun) or (body == "moon" and not gravity.moon):
+            continue
+        total = total + GM_M3_PER_S2[body] / np.linalg.norm(x - ss.position_m(body, t_s), axis=1)
+    return total
+
+
+def geocentre_d(ss, t_s, gravity) -> np.ndarray:
+    """d = dTT/dTCB - 1 along the geocentre (TN36 eq. 10.4, position term dropped)."""
+    xe = ss.position_m("earth", t_s)
+    ve = ss.velocity_m_per_s("earth", t_s)
+    u_ext = _external_potential(xe, ss, t_s, "earth", gravity)
+    w = (0.5 * np.einsum("ni,ni->n", ve, ve) + u_ext) / C2_M2_PER_S2
+    return -L_G - w + L_G * w
+
+
+def lunar_surface_rate_tcb(ss, t_s, gravity) -> np.ndarray:
+    """dtau/dTCB - 1 of the ``lunar_surface`` reference clock."""
+    xm = ss.position_m("moon", t_s)
+    vm = ss.velocity_m_per_s("moon", t_s)
+    v_rot = MOON_ROTATION_RATE_RAD_PER_S * MOON_MEAN_RADIUS_M
+    u = GM_MOON_M3_PER_S2 / MOON_MEAN_RADIUS_M + _external_potential(xm, ss, t_s, "moon", gravity)
+    return -(0.5 * (np.einsum("ni,ni->n", vm, vm) + v_rot**2) + u) / C2_M2_PER_S2
+
+
+def reference_rate_tt(reference: str, d: np.ndarray, ss, t_s, gravity) -> np.ndarray:
+    """y_ref = d(reference)/dTT - 1 at the nodes."""
+    if reference in ("TT", "TAI", "GPS"):
+        return np.zeros_like(d)
+    if reference == "TCG":
+        return np.full_like(d, L_G / (1 - L_G))
+    if reference == "TCB":
+        return -d / (1 + d)
+    if reference == "TDB":
+        return (-L_B - d) / (1 + d)
+    if reference == "lunar_surface":
+        return (lunar_surface_rate_tcb(ss, t_s, gravity) - d) / (1 + d)
+    raise ValueError(f"unknown reference {reference!r}")
+
+
+POSITION_TERM_RANGE_M = 2.0e9
+"""The position term is removed before the secular fit only for clocks this close to its base body."""
+
+
+def position_term_base(reference: str) -> str:
+    """Body whose frame the bounded position term v_B.(x - x_B)/c^2 refers to."""
+    return "moon" if reference == "lunar_surface" else "earth"
+
+
+def bcrs_integrand_terms(source, reference: str, t_s, gravity, ss, orientation, span) -> NodeRates:
+    """Terms of g = y_clock - y_ref (against TT along the geocentre, per TT second).
+
+    Also returns v_B . (x - x_B) (B: ``position_term_base``), whose time derivative /c^2 is the
+    bounded part of the rate that the geocentric (or lunar) reference leaves in the offset.
+    """
+    st = source.states_bcrs(span, t_s, ss, orientation)
+    x, v = st.r_m, st.v_m_per_s
+    d = geocentre_d(ss, t_s, gravity)
+    inv = -1.0 / ((1.0 + d) * C2_M2_PER_S2)
+    terms = {"velocity": inv * 0.5 * np.einsum("ni,ni->n", v, v)}
+    xe = ss.position_m("earth", t_s)
+    r_geo = x - xe
+    r_geo_norm = np.linalg.norm(r_geo, axis=1)
+    if gravity.earth_zonal_degree >= 2 and np.all(r_geo_norm < EARTH_ZONAL_RANGE_M):
+        mono, zonal = earth_potential(r_geo, orientation.pole_gcrs(t_s), gravity.earth_zonal_degree,
+                                      GM_M3_PER_S2["earth"])
+        u_earth = mono + zonal
+    else:
+        u_earth = GM_M3_PER_S2["earth"] / r_geo_norm
+    terms["sun"] = inv * (GM_M3_PER_S2["sun"] / np.linalg.norm(x - ss.position_m("sun", t_s), axis=1)
+                          if gravity.sun else 0.0 * d)
+    terms["earth"] = inv * u_earth
+    terms["moon"] = inv * (GM_M3_PER_S2["moon"] / np.linalg.norm(x - ss.position_m("moon", t_s), axis=1)
+                           if gravity.moon else 0.0 * d)
+    planets = np.zeros_like(d)
+    for body in PLANETS:
+        planets = planets + GM_M3_PER_S2[body] / np.linalg.norm(x - ss.position_m(body, t_s), axis=1)
+    terms["planets"] = inv * planets
+    terms["time_scale"] = -d / (1.0 + d)
+    terms["reference"] = -reference_rate_tt(reference, d, ss, t_s, gravity)
+    rv = st.r_dot_v_m2_per_s if st.r_dot_v_m2_per_s is not None else np.zeros_like(d)
+    base = position_term_base(reference)
+    ve_dot_r = np.einsum("ni,ni->n", ss.velocity_m_per_s(base, t_s), x - ss.position_m(base, t_s))
+    return NodeRates(terms, rv, st.code, st.messages, ve_dot_r)

@@ -1,0 +1,113 @@
+"""Deep-space and cislunar clocks: closed forms, published lunar rate, GCRS/BCRS agreement."""
+
+import numpy as np
+import pytest
+
+from physics.budget import BudgetInputs, compute_budget
+from physics.constants import AU_M, C2_M2_PER_S2, C_M_PER_S, GM_SUN_M3_PER_S2
+from physics.environment import environment_for
+from physics.errors import PhysicsInputError
+from physics.orbits import KeplerianOrbit
+from physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
+from physics.rate import GravityModel
+from physics.solar_system import barycentric_states, solar_system_for
+from physics.span import Span
+
+FULL = GravityModel(4, True, True)
+FIVE_HUNDREDTHS_US_PER_DAY = 0.05  # issue 6 tolerance on Ashby & Patla's figure
+
+
+def test_lunar_equatorial_clock_gains_56_02_us_per_day(ts):
+    # Ashby & Patla (2024), arXiv:2402.11150: a clock on the Moon's surface gains ~56.02 us/day on
+    # a clock on the geoid. Four anomalistic months, near and far side.
+    span = Span(ts.utc(2027, 1, 1), 4 * 27.55455 * 86400.0)
+    for lon in (0.0, 180.0):
+        b = compute_budget(BudgetInputs(BodySurfaceClock("moon", 0.0, lon), "TT", span, FULL)).to_dict()
+        assert b["frame"] == "BCRS"
+        assert abs(b["mean_rate_us_per_day"] - 56.02) < FIVE_HUNDREDTHS_US_PER_DAY
+        assert "geocentre" in b["tt_convention"]
+
+
+def test_lunar_reference_is_the_lunar_equatorial_clock(ts):
+    span = Span(ts.utc(2027, 1, 1), 4 * 27.55455 * 86400.0)
+    b = compute_budget(BudgetInputs(BodySurfaceClock("moon", 0.0, 90.0), "lunar_surface", span, FULL))
+    assert abs(b.to_dict()["mean_rate_us_per_day"]) < 0.005  # tidal and rotation cross terms only
+
+
+def test_heliocentric_circular_orbit_against_tcb(ts):
+    # Closed form: a circular heliocentric clock runs slow on TCB by 3 GM_sun/(2 a c^2). The
+    # Sun's own barycentric motion (~13 m/s) couples to the orbital speed by up to
+    # v_k v_sun / c^2 = 4.3e-12, and the planets' potential is reported as its own term.
+    start = ts.utc(2030, 1, 1)
+    span = Span(start, 365.25 * 86400.0)
+    probe = CentredKeplerianOrbit("sun", start, AU_M, 0.0, 0.0, 0.0, 0.0, 180.0)
+    b = compute_budget(BudgetInputs(probe, "TCB", span, GravityModel(0, True, True))).to_dict()
+    closed = -1.5 * GM_SUN_M3_PER_S2 / (AU_M * C2_M2_PER_S2)
+    terms = b["terms_fractional"]
+    assert abs(terms["velocity"] + terms["sun"] - closed) < 4.3e-12
+    assert abs(b["mean_fractional_rate"] - closed - terms["planets"] - terms["earth"]) < 4.3e-12
+    assert -3e-12 < terms["planets"] < -1e-12  # Jupiter's potential at 5.2 au is ~1.8e-12
+
+
+def test_geo_clock_agrees_between_gcrs_and_bcrs(ts):
+    # BCRS rate against TT along the geocentre = GCRS rate against TT - d/dt(v_E . r)/c^2
+    # (TN36 eq. 10.4's position term); the rest agrees within the omitted O(c^-4) and
+    # Lorentz terms, ~1e-16 in rate.
+    start = ts.utc(2027, 9, 1)
+    span = Span(start, 3 * 86400.0)
+    geo = KeplerianOrbit(start, 42164.17e3, 0.0002, 0.05, 80.0, 270.0, 15.0)
+    g = compute_budget(BudgetInputs(geo, "TT", span, FULL, frame="GCRS"))
+    b = compute_budget(BudgetInputs(geo, "TT", span, FULL, frame="BCRS"))
+    t = np.linspace(0.0, span.duration_s, 301)
+    env = environment_for(span)
+    ss = solar_system_for(span)
+    r = geo.states(span, t, env.orientation).r_gcrs_m
+    ve_r = np.einsum("ni,ni->n", ss.velocity_m_per_s("earth", t), r)
+    position_term = -(ve_r - ve_r[0]) / C2_M2_PER_S2
+    diff = b.offset_s(t) - position_term - g.offset_s(t)
+    assert np.max(np.abs(diff)) < 1e-16 * span.duration_s + 1e-12
+    assert abs(b.to_dict()["mean_fractional_rate"] - g.to_dict()["mean_fractional_rate"]) < 2e-16
+    assert np.max(np.abs(position_term)) > 1e-6  # the term is real: microseconds at GEO
+
+
+def test_mars_surface_clock_and_light_time(ts):
+    start = ts.utc(2028, 6, 1)
+    span = Span(start, 5 * 86400.0)
+    station = BodySurfaceClock("mars", 18.4, 226.0, -2000.0)
+    b = compute_budget(BudgetInputs(station, "TDB", span, FULL, series_step_s=86400.0)).to_dict()
+    lt = np.asarray(b["series"]["light_time_to_earth_s"])
+    # Mars is 0.37 to 2.68 au from the Earth: 3 to 22 light-minutes (common practice).
+    assert np.all((lt > 180.0) & (lt < 1340.0))
+    st = barycentric_states(["mars", "earth"], [2451545.0], [0.0])
+    assert st["mars"][0].shape == (1, 3)
+    shapiro = np.asarray(b["series"]["shapiro_delay_to_earth_s"])
+    assert np.all((shapiro > 0) & (shapiro < 2.5e-4))  # < 250 us even at conjunction (TN36 ch. 11)
+    assert np.isfinite(b["mean_fractional_rate"])
+
+
+def test_solar_system_interpolation_error(ts):
+    span = Span(ts.utc(2027, 3, 1), 60 * 86400.0)
+    ss = solar_system_for(span)
+    t_s = np.random.default_rng(5).uniform(0, span.duration_s, 200)
+    t = span.times(t_s)
+    direct = barycentric_states(["moon", "sun", "jupiter"], t.whole, t.tdb_fraction)
+    for body in ("moon", "sun", "jupiter"):
+        assert np.max(np.linalg.norm(ss.position_m(body, t_s) - direct[body][0], axis=1)) < 0.1
+        assert np.max(np.linalg.norm(ss.velocity_m_per_s(body, t_s) - direct[body][1], axis=1)) < 1e-5
+    # 0.1 m at the Moon moves a clock's potential by < 1e-23 and its light time by 3e-10 s.
+    assert 0.1 / C_M_PER_S < 1e-9
+
+
+def test_barycentric_input_errors(ts):
+    start = ts.utc(2027, 3, 1)
+    with pytest.raises(PhysicsInputError) as info:
+        CentredKeplerianOrbit("moon", start, 1500e3, 0.0, 0, 0, 0, 0)
+    assert "inside the moon" in info.value.reason
+    with pytest.raises(PhysicsInputError):
+        CentredKeplerianOrbit("sun", start, AU_M, 1.3, 0, 0, 0, 0)
+    probe = CentredKeplerianOrbit("sun", start, AU_M, 0.1, 0, 0, 0, 0)
+    from physics.orbits import SurfaceClock
+
+    with pytest.raises(PhysicsInputError) as info:
+        compute_budget(BudgetInputs(probe, SurfaceClock(0, 0, 0), Span(start, 86400.0), FULL))
+    assert info.value.field == "reference"
