@@ -18,10 +18,14 @@ class _Strict(BaseModel):
 
 
 class KeplerianOrbitIn(_Strict):
-    """Osculating (two-body) or mean (with j2_secular) elements around the Earth, GCRS."""
+    """Two-body elements around the Earth (GCRS; mean elements with j2_secular), or around the
+    Sun, the Moon or Mars (axes of the ICRF equator, or the J2000 ecliptic; BCRS budget)."""
 
     type: Literal["keplerian"]
-    center: Literal["earth"] = "earth"
+    center: Literal["earth", "sun", "moon", "mars"] = "earth"
+    reference_plane: Literal["icrf_equator", "ecliptic_j2000"] = Field(
+        "icrf_equator", description="Axes of the elements: ICRF/GCRS equator, or the J2000 ecliptic "
+        "(centres other than the Earth)")
     epoch: AwareDatetime = Field(description="Epoch of the elements, ISO 8601 UTC")
     semi_major_axis_km: float = Field(gt=0, description="Semi-major axis, km")
     eccentricity: float = Field(ge=0, description="Eccentricity (elliptic: < 1)")
@@ -42,13 +46,16 @@ class TleOrbitIn(_Strict):
 
 
 class SurfaceClockIn(_Strict):
-    """A clock fixed on the Earth's surface (WGS-84 geodetic coordinates)."""
+    """A clock fixed on the surface: the Earth (WGS-84 geodetic coordinates, height above the
+    ellipsoid), or the Moon or Mars (planetocentric coordinates, height above the mean sphere,
+    IAU rotation elements)."""
 
     type: Literal["surface"]
-    center: Literal["earth"] = "earth"
+    center: Literal["earth", "moon", "mars"] = "earth"
     latitude_deg: float = Field(ge=-90, le=90)
     longitude_deg: float = Field(ge=-180, le=360)
-    height_m: float = Field(0.0, description="Height above the WGS-84 ellipsoid, m")
+    height_m: float = Field(0.0, description="Height above the WGS-84 ellipsoid (Earth) or the mean "
+                            "sphere (Moon: 1737.4 km, Mars: 3389.5 km), m")
     geoid_undulation_m: float | None = Field(None, description="Geoid height N above the ellipsoid, m")
     orthometric_height_m: float | None = Field(None, description="Height above the geoid, m")
 
@@ -117,7 +124,11 @@ class BudgetRequest(_Strict):
     """One clock, one reference, one span."""
 
     orbit: Orbit
-    reference: Literal["TT", "TAI", "GPS", "TCG"] | SurfaceClockIn = "TT"
+    reference: Literal["TT", "TAI", "GPS", "TCG", "TCB", "TDB", "lunar_surface"] | SurfaceClockIn = Field(
+        "TT", description="TT, TAI, GPS, TCG; TCB, TDB or lunar_surface (barycentric budget); or a "
+        "clock on the Earth's surface")
+    frame: Literal["auto", "GCRS", "BCRS"] = Field(
+        "auto", description="auto: GCRS for Earth-centred clocks against Earth references, BCRS otherwise")
     start: AwareDatetime
     end: AwareDatetime | None = None
     duration_days: float | None = Field(None, gt=0)

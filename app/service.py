@@ -11,6 +11,7 @@ from physics.constants import SECONDS_PER_DAY
 from physics.ephemeris import timescale
 from physics.errors import PhysicsInputError
 from physics.orbits import KeplerianOrbit, SurfaceClock, TleOrbit
+from physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
 from physics.rate import GravityModel
 from physics.span import Span
 
@@ -24,7 +25,28 @@ def _time(dt):
 
 def build_source(orbit, prefix: str = "orbit"):
     ts = timescale()
+    center = getattr(orbit, "center", "earth")
+    if isinstance(orbit, KeplerianOrbitIn) and center != "earth":
+        if orbit.j2_secular:
+            raise PhysicsInputError(f"{prefix}.j2_secular", True, "J2 secular drift is modelled for "
+                                    "Earth-centred orbits only")
+        return CentredKeplerianOrbit(
+            center, _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
+            orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
+            orbit.mean_anomaly_deg, reference_plane=orbit.reference_plane,
+        )
+    if isinstance(orbit, SurfaceClockIn) and center != "earth":
+        if prefix == "reference":
+            raise PhysicsInputError("reference.center", center, "a surface reference clock must be on "
+                                    "the Earth; for a lunar reference use \"lunar_surface\"")
+        if orbit.geoid_undulation_m is not None or orbit.orthometric_height_m is not None:
+            raise PhysicsInputError(f"{prefix}.geoid_undulation_m", orbit.geoid_undulation_m,
+                                    "geoid undulation and orthometric height apply to Earth clocks only")
+        return BodySurfaceClock(center, orbit.latitude_deg, orbit.longitude_deg, orbit.height_m)
     if isinstance(orbit, KeplerianOrbitIn):
+        if orbit.reference_plane != "icrf_equator":
+            raise PhysicsInputError(f"{prefix}.reference_plane", orbit.reference_plane,
+                                    "Earth-centred elements are referred to the GCRS equator")
         return KeplerianOrbit(
             _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
             orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
@@ -80,6 +102,7 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None) -> budge
         gravity=GravityModel(g.earth_zonal_degree, g.sun, g.moon),
         series_step_s=req.series_step_s, nominal_frequency_hz=req.nominal_frequency_hz,
         max_nodes=settings.MAX_NODES, max_series_points=settings.MAX_SERIES_POINTS,
+        frame=None if req.frame == "auto" else req.frame,
     )
 
 
