@@ -200,6 +200,51 @@ def cmd_budget(args) -> int:
     return 0
 
 
+def render_contacts(plan: dict) -> str:
+    """A plain-text summary of a contact plan."""
+    out = [f"{'station':<18} {'AOS (UTC)':<27} {'LOS (UTC)':<27} {'dur s':>7} {'max el':>7} "
+           f"{'offset AOS ns':>14} {'sync':>4}"]
+    for p in plan["passes"]:
+        out.append(f"{p['station']:<18} {p['aos_utc']:<27} {p['los_utc']:<27} {p['duration_s']:7.0f} "
+                   f"{p['max_elevation_deg']:7.2f} {p['offset_at_aos_ns']:14.3f} "
+                   f"{'yes' if p.get('used_for_sync') else '':>4}")
+    out += [
+        "",
+        f"syncs: {len(plan['syncs'])}   worst error: {plan['worst_error_ns']:.3f} ns   "
+        f"worst gap: {plan['worst_gap_s']:.0f} s   budget {plan['time_error_budget_ns']:g} ns at "
+        f"{plan['k_sigma']:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
+        "",
+        plan["caution"],
+    ]
+    return "\n".join(out)
+
+
+def cmd_contacts(args) -> int:
+    from .contacts import ContactPlanRequest, contact_plan_from_request, passes_csv
+
+    try:
+        req = ContactPlanRequest.model_validate(_load_json(args.request))
+    except (OSError, json.JSONDecodeError) as exc:
+        print(f"cannot read {args.request}: {exc}", file=sys.stderr)
+        return 2
+    except ValidationError as exc:
+        print(_fmt_validation(exc), file=sys.stderr)
+        return 2
+    try:
+        plan = contact_plan_from_request(req)
+    except PhysicsInputError as exc:
+        print(f"invalid request: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
+        return 2
+    if args.json:
+        json.dump(plan, sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    elif args.csv:
+        sys.stdout.write(passes_csv(plan))
+    else:
+        print(render_contacts(plan))
+    return 0
+
+
 def cmd_serve(args) -> int:
     import uvicorn
 
@@ -227,6 +272,12 @@ def build_parser() -> argparse.ArgumentParser:
     st.add_argument("--confidence", type=float, default=0.683, help="two-sided confidence of the bounds")
     st.add_argument("--json", action="store_true", help="print the response JSON")
     st.set_defaults(func=cmd_stability)
+    c = sub.add_parser("contacts", help="plan ground contacts and resynchronisation from a request JSON file")
+    c.add_argument("request")
+    fmt = c.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="print the response JSON")
+    fmt.add_argument("--csv", action="store_true", help="print the pass table as CSV")
+    c.set_defaults(func=cmd_contacts)
     sv = sub.add_parser("serve", help="run the HTTP service")
     sv.add_argument("--host", default=s.DEFAULT_HOST)
     sv.add_argument("--port", type=int, default=s.DEFAULT_PORT)

@@ -18,7 +18,7 @@ import numpy as np
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
 from physics.budget import CAUTION, compute_budget
-from physics.clock import PRESETS, ClockModel
+from physics.clock import ClockModel
 from physics.contacts import (
     GroundStation,
     SyncPolicy,
@@ -36,8 +36,8 @@ from physics.contacts import (
 from physics.environment import environment_for
 from physics.errors import PhysicsInputError
 
-from .schemas import BudgetRequest
-from .service import budget_inputs
+from .schemas import BudgetRequest, ClockIn
+from .service import budget_inputs, clock_model
 from .settings import Settings, get_settings
 
 MAX_STATIONS = 50
@@ -92,53 +92,13 @@ class SyncPolicyIn(_Strict):
         return self
 
 
-class ContactClockIn(_Strict):
-    """The satellite oscillator: a generic preset (typical figures) and/or its own numbers."""
-
-    preset: str | None = Field(None, description=f"One of {sorted(PRESETS)}")
-    h_alpha: dict[Literal["2", "1", "0", "-1", "-2"], float] | None = Field(
-        None, description="Power-law coefficients h_alpha keyed by alpha (IEEE Std 1139)")
-    adev_points: list[tuple[float, float]] | None = Field(
-        None, min_length=2, description="Allan deviation points [[tau_s, adev], ...] to fit h_alpha to")
-    f_h_hz: float | None = Field(None, gt=0, description="Measurement bandwidth for white/flicker PM, Hz")
-    drift_per_day: float | None = Field(None, description="Linear fractional frequency drift per day")
-    initial_fractional_frequency: float = Field(0.0, description="Frequency offset left after calibration")
-    initial_time_offset_ns: float = Field(0.0, description="Time offset at the span start, ns")
-
-    @model_validator(mode="after")
-    def _known(self):
-        if self.preset is not None and self.preset not in PRESETS:
-            raise ValueError(f"unknown clock preset {self.preset!r}; choose one of {sorted(PRESETS)}")
-        return self
-
-    def model(self) -> ClockModel:
-        fields: dict = {
-            "initial_fractional_frequency": self.initial_fractional_frequency,
-            "initial_time_offset_s": self.initial_time_offset_ns * 1e-9,
-            "f_h_hz": self.f_h_hz,
-        }
-        if self.drift_per_day is not None:
-            fields["drift_per_day"] = self.drift_per_day
-        if self.h_alpha is not None:
-            fields["h_alpha"] = {int(k): float(v) for k, v in self.h_alpha.items()}
-        elif self.adev_points is not None:
-            fields["h_alpha"] = {}
-            fields["adev_tau_s"] = tuple(p[0] for p in self.adev_points)
-            fields["adev"] = tuple(p[1] for p in self.adev_points)
-        try:
-            if self.preset is not None:
-                return ClockModel.from_preset(self.preset, **fields)
-            return ClockModel(**fields)
-        except ValueError as exc:
-            raise PhysicsInputError("clock", None, str(exc)) from exc
-
-
 class ContactPlanRequest(BudgetRequest):
     """A budget request plus ground stations, a sync policy and a time-error budget."""
 
     stations: list[StationIn] = Field(min_length=1, max_length=MAX_STATIONS)
     sync_policy: SyncPolicyIn = Field(default_factory=SyncPolicyIn)
-    clock: ContactClockIn | None = Field(None, description="Oscillator model; none: relativity only")
+    clock: ClockIn | None = Field(None, description="Oscillator model (the budget's clock block); "
+                                  "none: relativity only")
     time_error_budget_ns: float = Field(gt=0, description="Allowed |time error| of the k-sigma envelope, ns")
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic error")
     relativistic_offset: Literal["after_preset", "after_correction", "raw"] = Field(
@@ -266,7 +226,7 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
         raise PhysicsInputError("end", None, f"the span has {len(passes)} passes, above this service's limit "
                                 f"of {MAX_PASSES}; shorten the span or use fewer stations")
 
-    clock = req.clock.model() if req.clock is not None else ClockModel(name="ideal")
+    clock = clock_model(req.clock) if req.clock is not None else ClockModel(name="ideal")
     pol = req.sync_policy
     err = clock_error_model(clock.h_alpha, clock.drift_per_day, clock.initial_fractional_frequency,
                             clock.initial_time_offset_s, clock.f_h_hz, pol.reestimate_frequency,

@@ -18,8 +18,9 @@ from pydantic.json_schema import models_json_schema
 from physics.budget import CAUTION
 from physics.ephemeris import ephemeris, timescale
 
+from . import contacts as contact_models
 from . import problems, schemas
-from .api import budgets, clock, health, reference
+from .api import budgets, clock, contacts, health, reference
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
 
@@ -43,6 +44,8 @@ _DOCUMENTED = [
     (schemas.Problem, "serialization"),
     (schemas.StabilityRequest, "validation"),
     (schemas.StabilityResponse, "serialization"),
+    (contact_models.ContactPlanRequest, "validation"),
+    (contact_models.ContactPlanResponse, "serialization"),
 ]
 
 
@@ -125,6 +128,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.add_middleware(BodySizeLimit, max_bytes=settings.MAX_BODY_BYTES)
     app.include_router(budgets.router)
     app.include_router(clock.router)
+    app.include_router(contacts.router)
     app.include_router(reference.router)
     app.include_router(health.router)
     app.openapi = _openapi(app)

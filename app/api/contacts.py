@@ -1,0 +1,73 @@
+"""Contact plans: ``POST /v1/contact-plans`` (JSON) and ``POST /v1/contact-plans.csv`` (pass table)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+from fastapi import APIRouter
+from fastapi.concurrency import run_in_threadpool
+from fastapi.responses import JSONResponse, PlainTextResponse
+from pydantic import ValidationError
+
+from ..contacts import ContactPlanRequest, contact_plan_from_request, passes_csv
+from ..deps import JsonBody, SettingsDep
+from ..problems import ProblemError, validation_errors, validation_problem
+from . import openapi_doc as doc
+
+router = APIRouter(prefix="/v1", tags=["contacts"])
+
+_SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"
+
+
+def _example(name: str) -> dict:
+    try:
+        return json.loads((_SAMPLES / name).read_text())
+    except OSError:  # an installed copy without the samples: no example, same behaviour
+        return {}
+
+
+EXAMPLE_CONTACT_PLAN_MEO = _example("contact_plan_meo.json")
+EXAMPLE_CONTACT_PLAN_LEO = _example("contact_plan_leo.json")
+_EXAMPLES = {
+    "meo_every_pass": ("MEO clock, rubidium-class preset, synced at ground contacts",
+                       EXAMPLE_CONTACT_PLAN_MEO),
+    "leo_every_second_long_pass": ("LEO smallsat TLE, quartz-class preset", EXAMPLE_CONTACT_PLAN_LEO),
+}
+
+
+def _validate(body: Any) -> ContactPlanRequest:
+    try:
+        return ContactPlanRequest.model_validate(body)
+    except ValidationError as exc:
+        p = validation_problem(validation_errors(exc, body))
+        raise ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"]) from exc
+
+
+@router.post(
+    "/contact-plans",
+    summary="Plan resynchronisation at ground contacts",
+    response_description="Passes, syncs, the worst error and whether the budget holds",
+    responses=doc.responses(200, "ContactPlanResponse", "The contact plan", (400, 413, 422)),
+    openapi_extra=doc.json_body("ContactPlanRequest", _EXAMPLES),
+)
+async def create_contact_plan(body: JsonBody, settings: SettingsDep):
+    """Find the passes over the stations, simulate syncs by the policy and check the time-error budget."""
+    req = _validate(body)
+    return JSONResponse(await run_in_threadpool(contact_plan_from_request, req, settings))
+
+
+@router.post(
+    "/contact-plans.csv",
+    summary="The pass table of a contact plan, as CSV",
+    response_class=PlainTextResponse,
+    responses={200: {"description": "CSV, caution in the '#' header", "content": {"text/csv": {}}},
+               **doc.problem_responses((400, 413, 422))},
+    openapi_extra=doc.json_body("ContactPlanRequest", _EXAMPLES),
+)
+async def contact_plan_csv(body: JsonBody, settings: SettingsDep):
+    """The same request as /v1/contact-plans; one CSV row per pass."""
+    req = _validate(body)
+    plan = await run_in_threadpool(contact_plan_from_request, req, settings)
+    return PlainTextResponse(passes_csv(plan), media_type="text/csv")
