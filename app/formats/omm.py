@@ -226,5 +226,6 @@ def parse_omm(text: str, encoding: str | None = None) -> list[MeanElements]:
     """Mean elements of every object in an OMM text (encoding detected when not given)."""
     from .detect import detect_omm_encoding
 
+    check_size(text, "OMM")
     enc = encoding or detect_omm_encoding(text)
     return PARSERS[enc](text)

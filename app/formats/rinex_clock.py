@@ -92,9 +92,11 @@ def parse_rinex_clock(text: str) -> RinexClock:
             raise FormatError(n, "number of values", f"{n_vals} values; a clock record holds 1 to 6")
         vals = [_value(t, n) for t in tok[9:]]
         while len(vals) < n_vals:
-            if i >= len(lines):
-                raise FormatError(n, "continuation", f"the record announces {n_vals} values, the file ends first")
-            vals += [_value(t, i + 1) for t in lines[i].split()]
+            nxt = lines[i].split() if i < len(lines) else []
+            if not nxt or nxt[0] in RECORD_TYPES:
+                raise FormatError(n, "number of values",
+                                  f"the record announces {n_vals} values, {len(vals)} follow")
+            vals += [_value(t, i + 1) for t in nxt]
             i += 1
         if len(vals) != n_vals:
             raise FormatError(n, "number of values", f"{len(vals)} values where the record announces {n_vals}")

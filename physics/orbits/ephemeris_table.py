@@ -24,6 +24,10 @@ largest such difference over all nodes the budget asked for is reported in
 ``describe()`` with the fractional rate error it implies
 (GM |dr| / (r^2 c^2) + v |dv| / c^2) and the periodic-term error
 (2/c^2)(|dr| v + r |dv|), so a coarse table cannot pass for a precise one.
+The estimate measures truncation only: noise or rounding in the tabulated
+values (0.5 mm in SP3) is amplified by the polynomial's Lebesgue constant
+and is not included; near the ends of a segment, where the window is
+one-sided, errors grow (Runge) and so does the estimate.
 
 The source never extrapolates: a node outside every segment's coverage is an
 input error naming the span and the data's coverage. That check happens

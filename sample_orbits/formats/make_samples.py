@@ -39,6 +39,7 @@ ELEMENTS = {
     "L52": (26_561.4, 0.008, 55.0, 150.0, 20.0, 200.0),
 }
 GPS_START = dt.datetime(2027, 3, 1)
+INTERVAL_S = 300.0  # 5-minute epochs: 20 points per LEO revolution
 CLOCK_L51 = {"bias_s": 2.5e-4, "rate": 3.0e-12}  # invented clock offset and fractional rate
 CLOCK_L52 = {"bias_s": -1.1e-4, "rate": -7.0e-12}
 
@@ -98,10 +99,10 @@ def main():
     (OUT / "kestrel_fleet.tle").write_text(
         f"KESTREL-TIMING-1\n{LEO_TLE[0]}\n{LEO_TLE[1]}\n0 KESTREL-TIMING-2\n{l1b}\n{l2b}\n{l1c}\n{l2c}\n")
 
-    # SP3-d and RINEX clock files for two invented 'L' satellites over one day, 15-minute epochs.
+    # SP3-d and RINEX clock files for two invented "L" satellites over one day, 5-minute epochs.
     # Epochs on round GPS times from GPS 2027-03-01 00:00:00 (= TAI - 19 s; IS-GPS-200 3.3.4).
     gps0 = ts.tai(2027, 3, 1, 0, 0, 19.0)
-    t_s = span.seconds_after_start(gps0) + np.arange(0.0, 86400.0 + 1.0, 900.0)
+    t_s = span.seconds_after_start(gps0) + np.arange(0.0, 86400.0 + 1.0, INTERVAL_S)
     times = span.times(t_s)
     ecef, clocks = {}, {}
     for sid, clk in (("L51", CLOCK_L51), ("L52", CLOCK_L52)):
@@ -112,7 +113,7 @@ def main():
         rv = np.einsum("ni,ni->n", s.r_gcrs_m, s.v_gcrs_m_per_s)
         # A clock that carries the relativistic periodic term -(2/c^2) r.v (raw proper time).
         clocks[sid] = clk["bias_s"] + clk["rate"] * t_s - 2.0 * rv / C2_M2_PER_S2
-    gps_cal = [GPS_START + dt.timedelta(seconds=900 * k) for k in range(len(t_s))]
+    gps_cal = [GPS_START + dt.timedelta(seconds=INTERVAL_S * k) for k in range(len(t_s))]
     (OUT / "kestrel_constellation.sp3").write_text(_sp3(gps_cal, ecef, clocks))
     (OUT / "kestrel_constellation_302.clk").write_text(_rinex_clock(gps_cal, clocks, "3.02"))
     (OUT / "kestrel_constellation_304.clk").write_text(_rinex_clock(gps_cal, clocks, "3.04"))
@@ -132,7 +133,7 @@ def _sp3(gps_cal, ecef, clocks):
     lines = [
         f"#dV{g0.year:4d} {g0.month:2d} {g0.day:2d} {g0.hour:2d} {g0.minute:2d} {0.0:11.8f}"
         f" {len(gps_cal):7d} ORBIT IGS20 FIT  TAUB",
-        f"## {week:4d} {sow:15.8f} {900.0:14.8f} {mjd:5d} {0.0:15.13f}",
+        f"## {week:4d} {sow:15.8f} {INTERVAL_S:14.8f} {mjd:5d} {0.0:15.13f}",
         f"+  {len(sats):3d}   " + "".join(sats) + "   0" * (17 - len(sats)),
         "++         " + "  0" * 17,
         "%c L  cc GPS ccc cccc cccc cccc cccc ccccc ccccc ccccc ccccc",
