@@ -12,6 +12,15 @@ from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validato
 
 from physics.clock import PRESETS as _CLOCK_PRESETS
 
+from .formats.models import (
+    OemOrbitIn,
+    OmmOrbitIn,
+    OpmOrbitIn,
+    Sp3OrbitIn,
+    StateVectorOrbitIn,
+    TleFileOrbitIn,
+)
+
 
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid")
@@ -60,7 +69,8 @@ class SurfaceClockIn(_Strict):
     orthometric_height_m: float | None = Field(None, description="Height above the geoid, m")
 
 
-Orbit = Annotated[KeplerianOrbitIn | TleOrbitIn | SurfaceClockIn, Field(discriminator="type")]
+Orbit = Annotated[KeplerianOrbitIn | TleOrbitIn | SurfaceClockIn | OmmOrbitIn | OpmOrbitIn | OemOrbitIn
+                  | Sp3OrbitIn | TleFileOrbitIn | StateVectorOrbitIn, Field(discriminator="type")]
 
 
 class GravityIn(_Strict):

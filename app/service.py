@@ -15,6 +15,7 @@ from physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
 from physics.rate import GravityModel
 from physics.span import Span
 
+from .formats import FORMAT_ORBITS, build_format_source
 from .schemas import BudgetRequest, ClockIn, KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
 from .settings import Settings, get_settings
 
@@ -24,6 +25,8 @@ def _time(dt):
 
 
 def build_source(orbit, prefix: str = "orbit"):
+    if isinstance(orbit, FORMAT_ORBITS):
+        return build_format_source(orbit, prefix)
     ts = timescale()
     center = getattr(orbit, "center", "earth")
     if isinstance(orbit, KeplerianOrbitIn) and center != "earth":
