@@ -79,6 +79,9 @@ CAUTION = (
     "mission's own standards, orbit products and clock data."
 )
 
+FIT_POINTS_PER_PANEL = 8
+"""Samples per panel for the secular fit (16 per orbit at T/2 panels: 4 harmonics resolved)."""
+
 FINE_POINTS_PER_PANEL = 24
 """Uniform samples per panel for extremes and fits (48 per orbit at T/2 panels: the sampled
 extreme of a sinusoid is within 1 - cos(pi/48) = 0.2 % of the true one)."""
@@ -90,6 +93,10 @@ MAX_PANEL_S = 6 * 3600.0
 """Longest panel: keeps the Moon's semi-diurnal tide well resolved, s."""
 
 MIN_PANEL_S = 60.0
+
+PANELS_PER_PERIOD = 2.0
+"""First panels span 1/PANELS_PER_PERIOD of an orbit (then halved where the tail test fails;
+full-orbit panels fail it for LEO, whose rate is rich in harmonics)."""
 
 MEAN_MOON_DISTANCE_M = 384_400e3  # common practice (mean Earth-Moon distance)
 MEAN_SUN_DISTANCE_M = 149_597_870_700.0  # 1 au (TN36 Table 1.1)
@@ -126,7 +133,7 @@ def _check_span(span: Span):
 
 def _initial_panel_s(source, nodes_scale: float) -> float:
     period = source.period_s()
-    base = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / 2.0)
+    base = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / PANELS_PER_PERIOD)
     return max(MIN_PANEL_S, base) / nodes_scale
 
 
@@ -140,11 +147,12 @@ def _fit_secular(t_s, weights, rows, period_s, span_s):
         for k in range(1, HARMONICS + 1):
             cols += [np.cos(k * w * t_s), np.sin(k * w * t_s)]
     basis = np.stack(cols, axis=1)
-    sw = np.sqrt(weights)[:, None]
-    # Remove the chord first so the solve sees only the small departures from it.
+    # Remove the chord first so the solve sees only the small departures from it. The basis
+    # is small and well conditioned (columns of order 1, near-orthogonal over >= 1 period), so
+    # the weighted normal equations are solved directly: O(N m^2), no SVD of an N x m matrix.
     chord = rows[:, :1] + (rows[:, -1:] - rows[:, :1]) * (t_s / span_s)[None, :]
-    coef, *_ = np.linalg.lstsq(basis * sw, ((rows - chord).T * sw), rcond=None)
-    coef = coef.T
+    bw = basis * weights[:, None]
+    coef = np.linalg.solve(bw.T @ basis, bw.T @ (rows - chord).T).T
     chord_slope = (rows[:, -1] - rows[:, 0]) / span_s
     coef[:, 0] += rows[:, 0] + chord_slope * half
     coef[:, 1] = coef[:, 1] / half + chord_slope  # back to per second
@@ -393,36 +401,35 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             f"{exc.max_nodes}; shorten the span or split it",
         ) from exc
 
-    t_fine = q.fine_grid_s(FINE_POINTS_PER_PANEL)
     rv_row = rows_names.index("r_dot_v")
-    cum = q.cumulative_at(t_fine, rows=list(range(rv_row)))  # (rows, N), r.v itself not integrated
-    rv = q.values_at(t_fine, rows=[rv_row])[0]
     rv0 = q.values_at(np.array([0.0]), rows=[rv_row])[0][0]
     ecc_scale = 1.0 / ((1.0 - L_G) * C2_M2_PER_S2)
-    # Eccentricity term of the offset, s: -(2/c^2)(r.v - r.v_0), per TT second.
-    ecc = -2.0 * ecc_scale * (rv - rv0)
-    total = cum[0]
-    corrected = total - ecc
-    term_rows = {name: cum[1 + i] for i, name in enumerate(term_names)}
-    # Each of the velocity and the primary's potential carries half the eccentricity term.
-    term_rows["velocity"] = term_rows["velocity"] - 0.5 * ecc
-    term_rows[primary_term] = term_rows[primary_term] - 0.5 * ecc
-    position_term = np.zeros_like(total)
-    if frame == "BCRS" and _near_base_body(bsrc, ref, span, ss, env):
-        # With TT along the geocentre, the offset carries -(v_E.(x - x_E))/c^2 (the position
-        # term of TN36 eq. 10.4), a bounded total derivative: remove it before the secular fit,
-        # like the eccentricity term, and book its share against the velocity term.
+    use_position_term = frame == "BCRS" and _near_base_body(bsrc, ref, span, ss, env)
+    if use_position_term:
         ve_row = rows_names.index("ve_dot_r")
-        ver = q.values_at(t_fine, rows=[ve_row])[0]
         ver0 = q.values_at(np.array([0.0]), rows=[ve_row])[0][0]
-        position_term = -(ver - ver0) / C2_M2_PER_S2
-        corrected = corrected - position_term
-        term_rows["velocity"] = term_rows["velocity"] - position_term
 
+    def periodic_parts(t_s):
+        """Eccentricity term -(2/c^2)(r.v - r.v_0) and, in the BCRS near the Earth or Moon, the
+        position term -(v_B.(x - x_B) - ...)/c^2 (TN36 eq. 10.4), both in s at ``t_s``."""
+        ecc_t = -2.0 * ecc_scale * (q.values_at(t_s, rows=[rv_row])[0] - rv0)
+        if not use_position_term:
+            return ecc_t, np.zeros_like(ecc_t)
+        return ecc_t, -(q.values_at(t_s, rows=[ve_row])[0] - ver0) / C2_M2_PER_S2
+
+    # Secular fit on a grid of FIT_POINTS_PER_PANEL samples per panel, every term at once. The
+    # eccentricity term (and the position term) are bounded total derivatives: they are removed
+    # before the fit, and each of the velocity and the primary's potential carries half the
+    # eccentricity term (the position term is booked against the velocity term).
+    t_fit = q.fine_grid_s(FIT_POINTS_PER_PANEL)
+    cum = q.cumulative_at(t_fit, rows=list(range(rv_row)))  # (rows, N); r.v itself not integrated
+    ecc_fit, pos_fit = periodic_parts(t_fit)
+    term_rows = {name: cum[1 + i] for i, name in enumerate(term_names)}
+    term_rows["velocity"] = term_rows["velocity"] - 0.5 * ecc_fit - pos_fit
+    term_rows[primary_term] = term_rows[primary_term] - 0.5 * ecc_fit
     period = src.period_s()
-    weights = _trapezoid_weights(t_fine)
-    fit_rows = np.vstack([corrected] + [term_rows[n] for n in term_names] + [total])
-    coef, basis = _fit_secular(t_fine, weights, fit_rows, period, span.duration_s)
+    fit_rows = np.vstack([cum[0] - ecc_fit - pos_fit] + [term_rows[n] for n in term_names] + [cum[0]])
+    coef, basis = _fit_secular(t_fit, _trapezoid_weights(t_fit), fit_rows, period, span.duration_s)
     slope = coef[:, 1]
     rate_vs_tt = slope[0]
     term_slopes = dict(zip(term_names, slope[1:1 + len(term_names)], strict=True))
@@ -438,10 +445,15 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     mean_rate = rate_vs_tt / (1.0 + y_ref)
     terms_fractional = {k: v / (1.0 + y_ref) for k, v in term_slopes.items()}
 
+    # Extremes and amplitudes on the finer grid: only the total and the bounded terms.
+    t_fine = q.fine_grid_s(FINE_POINTS_PER_PANEL)
+    weights = _trapezoid_weights(t_fine)
+    total = q.cumulative_at(t_fine, rows=[0])[0]
+    ecc, position_term = periodic_parts(t_fine)
     tc = t_fine - 0.5 * span.duration_s
     periodic = total - rate_vs_tt * tc
     periodic = periodic - np.sum(weights * periodic) / np.sum(weights)
-    residual = corrected + position_term - rate_vs_tt * tc
+    residual = total - ecc - rate_vs_tt * tc
     residual = residual - np.sum(weights * residual) / np.sum(weights)
 
     p2p = float(periodic.max() - periodic.min())

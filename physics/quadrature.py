@@ -9,9 +9,11 @@ edges, so output times never force extra nodes.
 
 Error control. The size of the last two Legendre coefficients measures how
 well the degree-(n-1) expansion represents the integrand (the standard
-spectral tail estimate, as in Chebfun's chopping rule). A panel is accepted
-when ``(h/2) (|c_{n-2}| + |c_{n-1}|) <= tol_fractional * h``; otherwise it is
-halved and re-sampled. All panels of one refinement level are evaluated in a
+spectral tail estimate, as in Chebfun's chopping rule). The first neglected
+coefficient is bounded by the larger of the last two, and its contribution
+to the offset anywhere in the panel by (h/2) |c_n| max|int P_n| =
+(h/2) |c_n| 2/(2n+1). A panel is accepted when that is <= tol_fractional * h;
+otherwise it is halved and re-sampled. All panels of one refinement level are evaluated in a
 single vectorised call: the only Python loop is over levels (at most
 ``MAX_LEVELS``). The reported error estimate is the sum of the accepted
 panels' tail estimates, a bound on the error of the offset at interior points;
@@ -36,6 +38,10 @@ _X, _W = leg.leggauss(NODES_PER_PANEL)
 _TRANSFORM = (leg.legvander(_X, NODES_PER_PANEL - 1) * _W[:, None]).T * (
     (2 * np.arange(NODES_PER_PANEL) + 1) / 2.0
 )[:, None]
+
+
+_INT_PN_MAX = 2.0 / (2 * NODES_PER_PANEL + 1)
+"""max over u of |integral_{-1}^{u} P_n| = |P_{n+1} - P_{n-1}|/(2n+1) <= 2/(2n+1)."""
 
 
 class NodeBudgetExceeded(RuntimeError):
@@ -149,7 +155,9 @@ def integrate(
         vals = vals.reshape(vals.shape[0], pending_l.size, NODES_PER_PANEL)
         coef = np.einsum("kj,rpj->rpk", _TRANSFORM, vals)  # (rows, P, n)
         h = pending_r - pending_l
-        tail = 0.5 * h * (np.abs(coef[0, :, -1]) + np.abs(coef[0, :, -2]))
+        # Error of the offset inside the panel from the first neglected coefficient c_n, taken
+        # as the larger of the last two (a decaying series), times max |int P_n| = 2/(2n+1).
+        tail = 0.5 * h * _INT_PN_MAX * np.maximum(np.abs(coef[0, :, -1]), np.abs(coef[0, :, -2]))
         good = (tail <= tol_fractional * h) | (level == MAX_LEVELS) | ~np.isfinite(tail)
         acc_l.append(pending_l[good])
         acc_r.append(pending_r[good])
