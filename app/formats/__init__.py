@@ -107,7 +107,8 @@ def build_format_source(orbit, prefix: str = "orbit"):
 
             st = parse_opm(orbit.text)
             if orbit.object_id is not None and orbit.object_id not in (st.object_id, st.object_name):
-                raise FormatError(None, "OBJECT_ID", f"the OPM describes {st.object_id!r}, not {orbit.object_id!r}")
+                raise FormatError(None, "OBJECT_ID",
+                                  f"the OPM describes {st.object_id!r}, not {orbit.object_id!r}")
             return _numerical(st.epoch, st.r_gcrs_m, st.v_gcrs_m_per_s, orbit.force_model, prefix,
                               f"OPM {st.object_name} ({st.object_id}), {st.frame} -> GCRS")
         if isinstance(orbit, OemOrbitIn):

@@ -173,7 +173,8 @@ class Keywords:
 
     def item(self, key: str) -> Item:
         if not self.has(key):
-            raise FormatError(self.start_line, key, f"mandatory keyword {key} is missing from the {self.what}")
+            raise FormatError(self.start_line, key,
+                              f"mandatory keyword {key} is missing from the {self.what}")
         return self.values[key]
 
     def get(self, key: str, default=None):

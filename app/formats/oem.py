@@ -129,7 +129,8 @@ def parse_oem(text: str, object_id: str | None = None, field: str = "orbit.text"
             try:
                 degree = int(it.value)
             except ValueError:
-                raise FormatError(it.line, "INTERPOLATION_DEGREE", f"{it.value!r} is not an integer") from None
+                raise FormatError(it.line, "INTERPOLATION_DEGREE",
+                                  f"{it.value!r} is not an integer") from None
             if not 1 <= degree <= MAX_INTERPOLATION_DEGREE:
                 raise FormatError(it.line, "INTERPOLATION_DEGREE",
                                   f"degree {degree} is outside 1..{MAX_INTERPOLATION_DEGREE}")
@@ -168,12 +169,14 @@ def parse_oem(text: str, object_id: str | None = None, field: str = "orbit.text"
                                 label=f"{frame} -> GCRS, {tsys}, {interp} degree {degree}"))
     label = f"OEM ({', '.join(sorted(n for n in names if n))})"
     if not any(mk.has("INTERPOLATION") for mk, _, _ in (parsed[i] for i in chosen)):
-        label += f"; no INTERPOLATION given, {DEFAULT_INTERPOLATION[0]} degree {DEFAULT_INTERPOLATION[1]} used"
+        label += (f"; no INTERPOLATION given, {DEFAULT_INTERPOLATION[0]} degree "
+                  f"{DEFAULT_INTERPOLATION[1]} used")
     return EphemerisTable(ref, segments, label=label, field=field)
 
 
 def _seconds(times, ref) -> np.ndarray:
-    return ((np.asarray(times.whole) - ref.whole) + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
+    whole = np.asarray(times.whole) - ref.whole
+    return (whole + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
 
 
 def _choose(ids, object_id, segs) -> list[int]:
@@ -181,7 +184,8 @@ def _choose(ids, object_id, segs) -> list[int]:
     if object_id is None:
         if len(distinct) > 1:
             raise FormatError(segs[0][2], "OBJECT_ID",
-                              f"the OEM holds {len(distinct)} objects ({', '.join(distinct)}); give object_id")
+                              f"the OEM holds {len(distinct)} objects ({', '.join(distinct)}); "
+                              "give object_id")
         return list(range(len(ids)))
     chosen = [k for k, (oid, name) in enumerate(ids) if object_id in (oid, name)]
     if not chosen:

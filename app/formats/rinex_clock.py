@@ -47,7 +47,8 @@ def parse_rinex_clock(text: str) -> RinexClock:
     try:
         version = float(lines[0][:9])
     except ValueError:
-        raise FormatError(1, "RINEX VERSION / TYPE", f"version {lines[0][:9].strip()!r} is not a number") from None
+        raise FormatError(1, "RINEX VERSION / TYPE",
+                          f"version {lines[0][:9].strip()!r} is not a number") from None
     if not (3.0 <= version < 3.1):
         raise FormatError(1, "RINEX VERSION / TYPE", f"clock RINEX version {version:.2f} is not supported "
                           "(3.02 and 3.04 are)")
@@ -77,14 +78,16 @@ def parse_rinex_clock(text: str) -> RinexClock:
         if not tok:
             continue
         if tok[0] not in RECORD_TYPES:
-            raise FormatError(n, "record type", f"{tok[0]!r} is not a clock record type ({', '.join(RECORD_TYPES)})")
+            raise FormatError(n, "record type",
+                              f"{tok[0]!r} is not a clock record type ({', '.join(RECORD_TYPES)})")
         if len(tok) < 9:
             raise FormatError(n, tok[0], "a clock record holds type, name, epoch and the number of values")
         try:
             y, mo, d, h, mi = (int(x) for x in tok[2:7])
             n_vals = int(tok[8])
         except ValueError:
-            raise FormatError(n, "epoch", f"bad epoch or value count in {lines[n - 1].strip()[:40]!r}") from None
+            raise FormatError(n, "epoch",
+                              f"bad epoch or value count in {lines[n - 1].strip()[:40]!r}") from None
         sec = _value(tok[7], n)
         if not (1 <= mo <= 12 and 1 <= d <= 31 and 0 <= h <= 23 and 0 <= mi <= 59 and 0 <= sec < 61):
             raise FormatError(n, "epoch", "epoch out of range")
@@ -99,7 +102,8 @@ def parse_rinex_clock(text: str) -> RinexClock:
             vals += [_value(t, i + 1) for t in nxt]
             i += 1
         if len(vals) != n_vals:
-            raise FormatError(n, "number of values", f"{len(vals)} values where the record announces {n_vals}")
+            raise FormatError(n, "number of values",
+                              f"{len(vals)} values where the record announces {n_vals}")
         if tok[0] == "AS":
             count += 1
             if count > MAX_DATA_LINES:

@@ -195,7 +195,8 @@ def sp3_source(sp3: Sp3, sat_id: str, degree: int = DEFAULT_DEGREE, field: str =
     times = sp3.epochs[idx]
     r, v = to_gcrs("ITRF", times, pos[idx] * 1e3, None if vel is None else vel[idx] * 0.1)
     ref = times[0]
-    t_s = ((np.asarray(times.whole) - ref.whole) + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
+    whole = np.asarray(times.whole) - ref.whole
+    t_s = (whole + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
     # Never interpolate across a gap: split where consecutive epochs are > 1.5 intervals apart.
     breaks = np.nonzero(np.diff(t_s) > 1.5 * sp3.interval_s)[0] + 1
     segments = []

@@ -74,7 +74,8 @@ def main():
     for first, last in ((0.0, 64800.0), (64800.0, 129600.0)):
         rr = rows(first, last)
         segs.append({"OBJECT_NAME": "KESTREL-NAV-3", "OBJECT_ID": "2027-901C", "CENTER_NAME": "EARTH",
-                     "REF_FRAME": "GCRF", "TIME_SYSTEM": "UTC", "START_TIME": rr[0][0], "STOP_TIME": rr[-1][0],
+                     "REF_FRAME": "GCRF", "TIME_SYSTEM": "UTC", "START_TIME": rr[0][0],
+                     "STOP_TIME": rr[-1][0],
                      "INTERPOLATION": "LAGRANGE", "INTERPOLATION_DEGREE": "9", "rows": rr})
     (OUT / "kestrel_nav3.oem").write_text(odm.oem_kvn(segs))
     short = [dict(segs[0], rows=segs[0]["rows"][:49], STOP_TIME=segs[0]["rows"][48][0])]

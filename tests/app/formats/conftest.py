@@ -35,7 +35,8 @@ def opm_kvn(epoch, r_km, v_km_s, frame="GCRF", time_system="UTC", name="KESTREL-
     if kepler:
         units = {"SEMI_MAJOR_AXIS": "km", "GM": "km**3/s**2"}
         for k, x in kepler.items():
-            lines.append(_kv(k, f"{x:.12f}" if k != "GM" else f"{x:.6f}", units.get(k, "deg" if k != "ECCENTRICITY" else None)))
+            unit = units.get(k, "deg" if k != "ECCENTRICITY" else None)
+            lines.append(_kv(k, f"{x:.12f}" if k != "GM" else f"{x:.6f}", unit))
     lines += list(extra)
     return "\n".join(ln for ln in lines if not (drop and ln.startswith(drop + " "))) + "\n"
 
@@ -104,9 +105,11 @@ def oem_xml(segments):
         for ep, r, v in seg["rows"]:
             els = [_xml_el("EPOCH", ep)]
             els += [_xml_el(k, f"{x:.9f}", "km") for k, x in zip(("X", "Y", "Z"), r, strict=True)]
-            els += [_xml_el(k, f"{x:.12f}", "km/s") for k, x in zip(("X_DOT", "Y_DOT", "Z_DOT"), v, strict=True)]
+            els += [_xml_el(k, f"{x:.12f}", "km/s")
+                    for k, x in zip(("X_DOT", "Y_DOT", "Z_DOT"), v, strict=True)]
             rows.append("<stateVector>" + "".join(els) + "</stateVector>")
-        parts.append(f"<segment><metadata>{meta}</metadata><data>\n" + "\n".join(rows) + "\n</data></segment>")
+        parts.append(f"<segment><metadata>{meta}</metadata><data>\n" + "\n".join(rows)
+                     + "\n</data></segment>")
     return (f'<?xml version="1.0"?>\n<oem id="CCSDS_OEM_VERS" version="3.0">\n<header>'
             f'<CREATION_DATE>{HEADER["CREATION_DATE"]}</CREATION_DATE><ORIGINATOR>{HEADER["ORIGINATOR"]}'
             f'</ORIGINATOR></header>\n<body>\n' + "\n".join(parts) + "\n</body></oem>\n")
@@ -159,7 +162,8 @@ def omm_kvn(f: dict, frame="TEME", drop: str | None = None, epoch=None):
 
 
 def omm_xml(f: dict):
-    meta = "".join(_xml_el(k, v) for k, v in (("OBJECT_NAME", f["OBJECT_NAME"]), ("OBJECT_ID", f["OBJECT_ID"]),
+    meta = "".join(_xml_el(k, v) for k, v in (("OBJECT_NAME", f["OBJECT_NAME"]),
+                                              ("OBJECT_ID", f["OBJECT_ID"]),
                                               ("CENTER_NAME", "EARTH"), ("REF_FRAME", "TEME"),
                                               ("TIME_SYSTEM", "UTC"), ("MEAN_ELEMENT_THEORY", "SGP4")))
     mean = "".join(_xml_el(k, f[k], _OMM_UNITS.get(k)) for k in _MEAN)

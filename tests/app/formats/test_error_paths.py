@@ -92,7 +92,8 @@ def test_opm_maneuver_is_refused(odm):
     text = odm.opm_kvn(EPOCH, R_KM, V_KM_S, extra=["MAN_EPOCH_IGNITION = 2027-03-01T06:00:00"])
     with pytest.raises(FormatError) as info:
         parse_opm(text)
-    assert info.value.keyword == "MAN_EPOCH_IGNITION" and info.value.line_number == _line_of(text, "MAN_EPOCH")
+    assert info.value.keyword == "MAN_EPOCH_IGNITION"
+    assert info.value.line_number == _line_of(text, "MAN_EPOCH")
 
 
 # --- OMM ---------------------------------------------------------------------------

@@ -197,7 +197,8 @@ def test_day_of_year_epoch_without_fraction(nav, odm):
     _, _, r, v = nav
     a = build_format_source(OpmOrbitIn(type="opm", text=odm.opm_kvn("2027-060T00:00:00", r, v),
                                        force_model=POINT_MASS_FORCES))
-    b = build_format_source(OpmOrbitIn(type="opm", text=odm.opm_kvn(EPOCH, r, v), force_model=POINT_MASS_FORCES))
+    b = build_format_source(OpmOrbitIn(type="opm", text=odm.opm_kvn(EPOCH, r, v),
+                                       force_model=POINT_MASS_FORCES))
     assert abs((a.epoch().tt - b.epoch().tt) * 86400.0) < 1e-6
 
 

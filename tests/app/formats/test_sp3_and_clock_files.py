@@ -20,7 +20,8 @@ from physics.orbits import KeplerianOrbit
 from physics.span import Span
 
 SAMPLES = Path(__file__).resolve().parents[3] / "sample_orbits" / "formats"
-ELEMENTS = {"L51": (7_078.0, 0.0015, 97.9, 40.0, 90.0, 15.0), "L52": (26_561.4, 0.008, 55.0, 150.0, 20.0, 200.0)}
+ELEMENTS = {"L51": (7_078.0, 0.0015, 97.9, 40.0, 90.0, 15.0),
+            "L52": (26_561.4, 0.008, 55.0, 150.0, 20.0, 200.0)}
 CLOCK_RATE = {"L51": 3.0e-12, "L52": -7.0e-12}
 SP3_ROUNDING_M = 1e-3  # SP3 writes km with 6 decimals: 0.5 mm per component
 INTERPOLATION_M = 0.05  # Lagrange degree 9 on 5-minute points, centred windows (LEO: ~2 cm)
@@ -40,7 +41,8 @@ def _truth(ts, sid):
 
 
 def test_sp3_header_and_records(sp3):
-    assert (sp3.version, sp3.coordinate_system, sp3.time_system, sp3.interval_s) == ("d", "IGS20", "GPS", 300.0)
+    header = (sp3.version, sp3.coordinate_system, sp3.time_system, sp3.interval_s)
+    assert header == ("d", "IGS20", "GPS", 300.0)
     assert sp3.satellites == ["L51", "L52"] and len(sp3.epoch_lines) == 289
     assert sp3.velocities_dm_per_s is not None
 
