@@ -76,6 +76,11 @@ def build_span(req: BudgetRequest, settings: Settings) -> Span:
         duration_s = req.duration_days * SECONDS_PER_DAY
         field = "duration_days"
     days = duration_s / SECONDS_PER_DAY
+    if not duration_s >= budget_mod.MIN_SPAN_S:
+        raise PhysicsInputError(
+            field, duration_s / SECONDS_PER_DAY if field == "duration_days" else req.end.isoformat(),
+            f"the span of {duration_s:.3g} s is shorter than the {budget_mod.MIN_SPAN_S:g} s a budget needs",
+        )
     if days > settings.MAX_SPAN_DAYS:
         raise PhysicsInputError(
             field, round(days, 6),

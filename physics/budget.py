@@ -119,7 +119,16 @@ class BudgetInputs:
     frame: str | None = None  # None: automatic (``choose_frame``); "GCRS" or "BCRS" to force
 
 
+MIN_SPAN_S = 1.0
+"""Shortest span a budget integrates, s: below it no rate or periodic part is meaningful."""
+
+
 def _check_span(span: Span):
+    if not span.duration_s >= MIN_SPAN_S:
+        raise PhysicsInputError(
+            "end", span.duration_s,
+            f"the span of {span.duration_s:.3g} s is shorter than the {MIN_SPAN_S:g} s a budget needs",
+        )
     jd0 = float(span.start.tdb)
     jd1 = jd0 + span.duration_s / SECONDS_PER_DAY
     if jd0 < DE421_FIRST_JD_TDB or jd1 > DE421_LAST_JD_TDB:
