@@ -108,6 +108,10 @@ class EarthOrientation:
             axis=1,
         )
 
+    def teme_to_gcrs_matrices(self, t_s: np.ndarray) -> np.ndarray:
+        """(N, 3, 3) matrices GCRS -> TEME (apply the transpose to go TEME -> GCRS)."""
+        return self._teme(t_s).reshape(-1, 3, 3)
+
     def teme_to_gcrs(self, vectors_teme: np.ndarray, t_s: np.ndarray) -> np.ndarray:
         """Rotate (N, 3) TEME vectors into the GCRS (skyfield's TEME definition)."""
         r = self._teme(t_s).reshape(-1, 3, 3)

@@ -85,9 +85,11 @@ def clock_terms_vs_tt(source, t_s: np.ndarray, gravity: GravityModel, env) -> No
         disturbing = normal_gravity_on_ellipsoid(source.geodetic_lat_rad) * n_m
         u_zonal = u_normal - u_mono + disturbing
     else:
-        pole = env.orientation.pole_gcrs(t_s) if gravity.earth_zonal_degree >= 2 else None
+        pole = None
+        if gravity.earth_zonal_degree >= 2 and states.sin_lat is None:
+            pole = env.orientation.pole_gcrs(t_s)
         u_mono, u_zonal = earth_potential(
-            r, pole, gravity.earth_zonal_degree, GM_EARTH_TCG_M3_PER_S2
+            r, pole, gravity.earth_zonal_degree, GM_EARTH_TCG_M3_PER_S2, sin_lat=states.sin_lat
         )
     u_tid = np.zeros_like(v2)
     for body in gravity.bodies():

@@ -42,6 +42,23 @@ class Span:
             + (np.asarray(time.tt_fraction) - self.start.tt_fraction)
         ) * SECONDS_PER_DAY
 
+    def utc_jd_parts(self, t_s):
+        """UTC Julian date as (whole, fraction) arrays at ``t_s``, as SGP4 takes it.
+
+        Same arithmetic as skyfield's ``EarthSatellite`` (TAI fraction minus TAI - UTC), but with
+        TAI - UTC looked up only at the span's ends when no leap second falls inside it.
+        """
+        t_s = np.asarray(t_s, dtype=float)
+        tai_fraction = self.start.tt_fraction - 32.184 / SECONDS_PER_DAY + t_s / SECONDS_PER_DAY
+        ends = self.times(np.array([0.0, float(self.duration_s)]))
+        leap = ends._leap_seconds()
+        if leap[0] == leap[1]:
+            fraction = tai_fraction - leap[0] / SECONDS_PER_DAY
+        else:  # a leap second inside the span: per node (vectorised lookup)
+            fraction = tai_fraction - self.times(t_s)._leap_seconds() / SECONDS_PER_DAY
+        whole = np.full(t_s.shape, float(self.start.whole))
+        return whole, fraction
+
     def utc_iso(self, t_s) -> list[str]:
         """ISO 8601 UTC strings (microsecond resolution, trailing Z) at ``t_s``."""
         # strftime truncates the fraction: add half a microsecond to round instead.

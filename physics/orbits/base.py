@@ -25,6 +25,7 @@ class States:
     r_dot_v_m2_per_s: np.ndarray | None = None  # relative to the primary (BCRS sources)
     r_geocentric_m: np.ndarray | None = None  # Earth-centred sources carried into the BCRS
     frame: str = "GCRS"  # "BCRS" for barycentric sources: then the r/v arrays are BCRS vectors
+    sin_lat: np.ndarray | None = None  # Earth-fixed geocentric sin(latitude), when the source has it
 
     @property
     def ok(self) -> np.ndarray:

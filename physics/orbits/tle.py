@@ -19,7 +19,6 @@ import numpy as np
 from sgp4.api import SGP4_ERRORS
 from skyfield.api import EarthSatellite
 
-from ..constants import SECONDS_PER_DAY
 from ..errors import PhysicsInputError
 from .base import OrbitSource, States
 
@@ -88,22 +87,22 @@ class TleOrbit(OrbitSource):
 
     def states(self, span, t_s, orientation) -> States:
         t_s = np.asarray(t_s, dtype=float)
-        t = span.times(t_s)
-        whole = np.broadcast_to(np.asarray(t.whole, dtype=float), t_s.shape)
-        # UTC fraction exactly as skyfield's EarthSatellite builds it.
-        fraction = t.tai_fraction - t._leap_seconds() / SECONDS_PER_DAY
-        err, r_km, v_km_s = self.sat.model.sgp4_array(
-            np.ascontiguousarray(whole), np.ascontiguousarray(fraction)
-        )
+        # UTC Julian date as skyfield's EarthSatellite builds it (tested against skyfield).
+        whole, fraction = span.utc_jd_parts(t_s)
+        err, r_km, v_km_s = self.sat.model.sgp4_array(whole, np.ascontiguousarray(fraction))
         code = err.astype(np.int8)
-        r = orientation.teme_to_gcrs(r_km * 1e3, t_s)
-        v = orientation.teme_to_gcrs(v_km_s * 1e3, t_s)
+        rot = orientation.teme_to_gcrs_matrices(t_s)
+        r = np.einsum("nji,nj->ni", rot, r_km) * 1e3
+        v = np.einsum("nji,nj->ni", rot, v_km_s) * 1e3
+        # TEME's z axis is the true pole of date, so the Earth-fixed latitude needs no rotation
+        # (polar motion, < 1e-6 rad, is omitted throughout).
+        sin_lat = r_km[:, 2] / np.linalg.norm(r_km, axis=1)
         bad = code != 0
         if bad.any():
             r[bad] = np.nan
             v[bad] = np.nan
         messages = {int(c): SGP4_ERRORS[int(c)] for c in np.unique(code[bad])}
-        return States(r, v, code, messages)
+        return States(r, v, code, messages, sin_lat=sin_lat)
 
     def describe(self) -> dict:
         return {

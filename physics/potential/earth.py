@@ -46,11 +46,12 @@ def zonal_series(r_m, sin_lat, coefficients: dict[int, float], reference_radius_
     return total
 
 
-def earth_potential(r_gcrs_m: np.ndarray, pole_gcrs: np.ndarray, degree: int,
-                    gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2):
+def earth_potential(r_gcrs_m: np.ndarray, pole_gcrs: np.ndarray | None, degree: int,
+                    gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2, sin_lat: np.ndarray | None = None):
     """Monopole and zonal parts of U_E at (N, 3) GCRS positions, m^2/s^2.
 
-    ``degree`` 0 gives a point mass; 2..6 adds EGM2008 J2..J_degree.
+    ``degree`` 0 gives a point mass; 2..6 adds EGM2008 J2..J_degree. The latitude comes from
+    ``sin_lat`` when given (e.g. from TEME, whose z axis is the true pole), else from the pole.
     Returns ``(u_monopole, u_zonal)`` with U_E = u_monopole + u_zonal.
     """
     if degree < 0 or degree > MAX_ZONAL_DEGREE or degree == 1:
@@ -60,7 +61,8 @@ def earth_potential(r_gcrs_m: np.ndarray, pole_gcrs: np.ndarray, degree: int,
     coeffs = {n: j for n, j in EGM2008_J.items() if n <= degree}
     if not coeffs:
         return u_mono, np.zeros_like(r)
-    sin_lat = np.einsum("ni,ni->n", r_gcrs_m, pole_gcrs) / r
+    if sin_lat is None:
+        sin_lat = np.einsum("ni,ni->n", r_gcrs_m, pole_gcrs) / r
     u_zonal = -u_mono * zonal_series(r, sin_lat, coeffs, EGM2008_REFERENCE_RADIUS_M)
     return u_mono, u_zonal
 
