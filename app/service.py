@@ -89,9 +89,12 @@ def build_span(req: BudgetRequest, settings: Settings) -> Span:
     return Span(start, duration_s)
 
 
-def budget_inputs(req: BudgetRequest, settings: Settings | None = None) -> budget_mod.BudgetInputs:
+def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
+                  source=None) -> budget_mod.BudgetInputs:
+    """Physics inputs of a request; ``source``: the orbit source when the caller already built it
+    (one object of an uploaded multi-object file), else built from ``req.orbit``."""
     settings = settings or get_settings()
-    source = build_source(req.orbit)
+    source = build_source(req.orbit) if source is None else source
     reference = req.reference
     if isinstance(reference, SurfaceClockIn):
         reference = build_source(reference, prefix="reference")
@@ -114,9 +117,9 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None) -> budge
     )
 
 
-def budget_from_request(req: BudgetRequest, settings: Settings | None = None) -> dict:
-    """Compute the budget JSON for one request."""
-    inputs = budget_inputs(req, settings)
+def budget_from_request(req: BudgetRequest, settings: Settings | None = None, source=None) -> dict:
+    """Compute the budget JSON for one request (``source``: see ``budget_inputs``)."""
+    inputs = budget_inputs(req, settings, source)
     if req.clock is not None:
         clock_model(req.clock)  # refuse a bad clock block before the integration runs
     budget = budget_mod.compute_budget(inputs)
@@ -153,7 +156,7 @@ def merge_item(defaults: dict, item: dict) -> dict:
     return base
 
 
-def estimate_nodes(req: BudgetRequest, settings: Settings | None = None) -> int:
+def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=None) -> int:
     """Cheap up-front estimate of the quadrature nodes one request needs.
 
     The integrator starts with panels of half an orbital period (at most
@@ -168,7 +171,7 @@ def estimate_nodes(req: BudgetRequest, settings: Settings | None = None) -> int:
     from physics.quadrature import NODES_PER_PANEL
 
     settings = settings or get_settings()
-    source = build_source(req.orbit)
+    source = build_source(req.orbit) if source is None else source
     span = build_span(req, settings)
     period = source.period_s()
     panel = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / 2.0)
