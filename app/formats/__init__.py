@@ -87,8 +87,21 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
             from .sp3 import parse_sp3, select_satellite, sp3_source
 
             sp3 = parse_sp3(orbit.text)
-            ids = [select_satellite(sp3, orbit.object_id)] if orbit.object_id else sorted(sp3.positions_km)
+            if orbit.object_id:
+                ids = [select_satellite(sp3, orbit.object_id)]
+            else:  # the header's order, then any satellite with records but no header entry
+                ids = [s for s in sp3.satellites if s in sp3.positions_km]
+                ids += sorted(set(sp3.positions_km) - set(ids))
             return [(sid, sp3_source(sp3, sid, orbit.interpolation_degree, f"{prefix}.text")) for sid in ids]
+        if isinstance(orbit, OpmOrbitIn):
+            from .opm import parse_opm
+
+            st = parse_opm(orbit.text)
+            return [(st.object_id or st.object_name, build_format_source(orbit, prefix))]
+        if isinstance(orbit, OemOrbitIn) and orbit.object_id is None:
+            from .oem import oem_object_ids, parse_oem
+
+            return [(oid, parse_oem(orbit.text, oid, f"{prefix}.text")) for oid in oem_object_ids(orbit.text)]
     except FormatError as exc:
         raise exc.to_physics(f"{prefix}.text") from None
     return [("1", build_format_source(orbit, prefix))]

@@ -179,6 +179,21 @@ def _seconds(times, ref) -> np.ndarray:
     return (whole + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
 
 
+def oem_object_ids(text: str) -> list[str]:
+    """The distinct OBJECT_IDs of an OEM's segments, in file order (metadata only is read)."""
+    if text.lstrip().startswith("<"):
+        items = xml_items(text, "OEM", root_messages(text, "OEM", "oem")[0])
+    else:
+        items = kvn_items(text, "OEM")
+    _, segs = _segments(items)
+    out: list[str] = []
+    for meta_items, _, meta_line in segs:
+        oid = Keywords(meta_items, meta_line, "OEM metadata").item("OBJECT_ID").value
+        if oid not in out:
+            out.append(oid)
+    return out
+
+
 def _choose(ids, object_id, segs) -> list[int]:
     distinct = sorted({i for i, _ in ids})
     if object_id is None:
