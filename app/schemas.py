@@ -152,6 +152,10 @@ class BudgetRequest(_Strict):
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic time error")
     apply_eccentricity_correction: bool = Field(
         True, description="The user segment removes the eccentricity term -(2/c^2) r.v from the residual")
+    monte_carlo_runs: int | None = Field(
+        None, ge=10, le=5000, description="Simulated noise realisations (Kasdin-Walter) for the "
+        "probability that |time error| exceeds time_error_budget_ns within the span (needs clock)")
+    monte_carlo_seed: int = Field(0, ge=0, le=2**32 - 1, description="Seed of the Monte Carlo run")
 
     @model_validator(mode="after")
     def _span(self):

@@ -122,6 +122,12 @@ def budget_from_request(req: BudgetRequest, settings: Settings | None = None, so
     inputs = budget_inputs(req, settings, source)
     if req.clock is not None:
         clock_model(req.clock)  # refuse a bad clock block before the integration runs
+    elif req.monte_carlo_runs is not None:
+        raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
+                                "a Monte Carlo exceedance needs a 'clock' block to simulate")
+    if req.monte_carlo_runs is not None and req.time_error_budget_ns is None:
+        raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
+                                "a Monte Carlo exceedance needs time_error_budget_ns")
     budget = budget_mod.compute_budget(inputs)
     out = budget.to_dict()
     out["reference"] = req.reference if isinstance(req.reference, str) else req.reference.model_dump()
@@ -300,6 +306,8 @@ def clock_error(req: BudgetRequest, budget, span: Span) -> dict:
         reached = math.isfinite(t_free)
         out["max_free_running_s"] = t_free if reached else None
         out["budget_reached_within_span"] = reached
+    if req.monte_carlo_runs is not None:
+        out["exceedance"] = _exceedance(req, model, residual, t_end)
     series = budget.data.get("series")
     if series is not None:
         t = np.asarray(series["elapsed_s"], dtype=float)
@@ -311,6 +319,44 @@ def clock_error(req: BudgetRequest, budget, span: Span) -> dict:
             "bound_ns": (s.bound_s * 1e9).tolist(),
         }
     return out
+
+
+MONTE_CARLO_MAX_SAMPLES = 4_000_000
+"""Runs x time steps a Monte Carlo request may simulate (bounded work)."""
+
+
+def _exceedance(req: BudgetRequest, model, residual, t_end: float) -> dict:
+    """Monte Carlo probability that |deterministic + noise| passes the budget within the span."""
+    import numpy as np
+
+    from physics.clock import exceedance_probability
+
+    if req.time_error_budget_ns is None:
+        raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
+                                "a Monte Carlo exceedance needs time_error_budget_ns")
+    steps = max(16, min(4096, MONTE_CARLO_MAX_SAMPLES // req.monte_carlo_runs))
+    step_s = t_end / steps
+    grid = np.arange(steps + 1) * step_s
+    est = exceedance_probability(
+        req.time_error_budget_ns * 1e-9, t_end, step_s, model.h_alpha,
+        initial_time_offset_s=model.initial_time_offset_s,
+        initial_fractional_frequency=model.initial_fractional_frequency,
+        drift_per_day=model.drift_per_day, residual_t_s=grid, residual_offset_s=residual(grid),
+        n_realisations=req.monte_carlo_runs, seed=req.monte_carlo_seed,
+    )
+    first = est.first_exceedance_s[np.isfinite(est.first_exceedance_s)]
+    return {
+        "probability": est.probability,
+        "standard_error": est.standard_error,
+        "runs": est.n_realisations,
+        "exceeded": est.n_exceeded,
+        "seed": req.monte_carlo_seed,
+        "step_s": step_s,
+        "horizon_s": t_end,
+        "median_first_exceedance_s": float(np.median(first)) if first.size else None,
+        "method": "Kasdin & Walter (1992) power-law noise, sampled at step_s; the white and flicker "
+        "PM terms see the step's Nyquist bandwidth",
+    }
 
 
 # --- Frequency stability of measured data (additive) -------------------------------------
