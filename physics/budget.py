@@ -176,26 +176,31 @@ def _trapezoid_weights(t_s):
     return w
 
 
-def _dominant_period(periodic, t_s, period_s, harmonic_coef, span_s):
-    """Period of the largest periodic component, s, or None if the span cannot tell."""
+def _periodic_components(periodic, t_s, period_s, harmonic_coef, span_s, limit=3):
+    """Largest periodic components as [(period_s, amplitude_s)], largest first.
+
+    With the orbital harmonics fitted: those harmonics (above 1 % of the largest). With a
+    period but too short a span: that period alone (amplitude from the peak-to-peak). Surface
+    clocks over a day or more: peaks of a Hann-windowed periodogram. Otherwise empty.
+    """
     if harmonic_coef is not None and len(harmonic_coef):
         amps = np.hypot(harmonic_coef[0::2], harmonic_coef[1::2])
-        k = int(np.argmax(amps)) + 1
-        return period_s / k
+        order = np.argsort(amps)[::-1]
+        keep = [k for k in order if amps[k] >= 0.01 * amps[order[0]]][:limit]
+        return [(period_s / (k + 1), float(amps[k])) for k in keep]
     if period_s is not None:
-        return period_s
-    # Surface clocks: periodogram of the uniformly resampled periodic part.
+        return [(period_s, 0.5 * float(periodic.max() - periodic.min()))]
     if span_s < SECONDS_PER_DAY:
-        return None
+        return []
     n = 8192
     grid = np.linspace(0.0, span_s, n, endpoint=False)
     x = np.interp(grid, t_s, periodic)
     x = x - x.mean()
-    spec = np.abs(np.fft.rfft(x * np.hanning(n)))
+    spec = np.abs(np.fft.rfft(x * np.hanning(n))) * (4.0 / n)  # Hann coherent gain 1/2
     freqs = np.fft.rfftfreq(n, d=span_s / n)
-    if spec[1:].max() <= 0.0:
-        return None
-    return float(1.0 / freqs[1 + int(np.argmax(spec[1:]))])
+    peaks = [i for i in range(2, len(spec) - 1) if spec[i] > spec[i - 1] and spec[i] >= spec[i + 1]]
+    peaks.sort(key=lambda i: spec[i], reverse=True)
+    return [(float(1.0 / freqs[i]), float(spec[i])) for i in peaks[:limit] if spec[i] > 0.0]
 
 
 def _omitted_terms(inputs: BudgetInputs, mean_r_m: float) -> list[dict]:
@@ -466,7 +471,8 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     residual = residual - np.sum(weights * residual) / np.sum(weights)
 
     p2p = float(periodic.max() - periodic.min())
-    dominant = _dominant_period(periodic, t_fine, period, harmonic_total, span.duration_s)
+    components = _periodic_components(periodic, t_fine, period, harmonic_total, span.duration_s)
+    dominant = components[0][0] if components else None
     ecc_amp = 0.5 * float(ecc.max() - ecc.min())
     i_ext = int(np.argmax(np.abs(total)))
 
@@ -497,6 +503,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             "amplitude_ns": 0.5 * p2p * 1e9,
             "peak_to_peak_ns": p2p * 1e9,
             "dominant_period_s": None if dominant is None else float(dominant),
+            "components": [{"period_s": p, "amplitude_ns": a * 1e9} for p, a in components],
         },
         "eccentricity_correction": {
             "amplitude_ns": ecc_amp * 1e9,
