@@ -423,21 +423,21 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
         ve_row = rows_names.index("ve_dot_r")
         ver0 = q.values_at(np.array([0.0]), rows=[ve_row])[0][0]
 
-    def periodic_parts(t_s):
+    def periodic_parts(points_per_panel):
         """Eccentricity term -(2/c^2)(r.v - r.v_0) and, in the BCRS near the Earth or Moon, the
-        position term -(v_B.(x - x_B) - ...)/c^2 (TN36 eq. 10.4), both in s at ``t_s``."""
-        ecc_t = -2.0 * ecc_scale * (q.values_at(t_s, rows=[rv_row])[0] - rv0)
+        position term -(v_B.(x - x_B) - ...)/c^2 (TN36 eq. 10.4), both in s on the fine grid."""
+        ecc_t = -2.0 * ecc_scale * (q.values_on_fine_grid(points_per_panel, rows=[rv_row])[0] - rv0)
         if not use_position_term:
             return ecc_t, np.zeros_like(ecc_t)
-        return ecc_t, -(q.values_at(t_s, rows=[ve_row])[0] - ver0) / C2_M2_PER_S2
+        return ecc_t, -(q.values_on_fine_grid(points_per_panel, rows=[ve_row])[0] - ver0) / C2_M2_PER_S2
 
     # Secular fit on a grid of FIT_POINTS_PER_PANEL samples per panel, every term at once. The
     # eccentricity term (and the position term) are bounded total derivatives: they are removed
     # before the fit, and each of the velocity and the primary's potential carries half the
     # eccentricity term (the position term is booked against the velocity term).
     t_fit = q.fine_grid_s(FIT_POINTS_PER_PANEL)
-    cum = q.cumulative_at(t_fit, rows=list(range(rv_row)))  # (rows, N); r.v itself not integrated
-    ecc_fit, pos_fit = periodic_parts(t_fit)
+    cum = q.cumulative_on_fine_grid(FIT_POINTS_PER_PANEL, rows=list(range(rv_row)))  # r.v not integrated
+    ecc_fit, pos_fit = periodic_parts(FIT_POINTS_PER_PANEL)
     term_rows = {name: cum[1 + i] for i, name in enumerate(term_names)}
     term_rows["velocity"] = term_rows["velocity"] - 0.5 * ecc_fit - pos_fit
     term_rows[primary_term] = term_rows[primary_term] - 0.5 * ecc_fit
@@ -462,8 +462,8 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     # Extremes and amplitudes on the finer grid: only the total and the bounded terms.
     t_fine = q.fine_grid_s(FINE_POINTS_PER_PANEL)
     weights = _trapezoid_weights(t_fine)
-    total = q.cumulative_at(t_fine, rows=[0])[0]
-    ecc, position_term = periodic_parts(t_fine)
+    total = q.cumulative_on_fine_grid(FINE_POINTS_PER_PANEL, rows=[0])[0]
+    ecc, position_term = periodic_parts(FINE_POINTS_PER_PANEL)
     tc = t_fine - 0.5 * span.duration_s
     periodic = total - rate_vs_tt * tc
     periodic = periodic - np.sum(weights * periodic) / np.sum(weights)

@@ -23,6 +23,7 @@ smaller still.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -102,12 +103,42 @@ class PanelIntegral:
         rows = slice(None) if rows is None else np.asarray(rows)
         return np.einsum("mj,kmj->km", vander, self.coefficients[rows][:, p, :])
 
+    @staticmethod
+    def _fine_vander(points_per_panel: int, degree: int) -> np.ndarray:
+        return _fine_vander(points_per_panel, degree)
+
+    def cumulative_on_fine_grid(self, points_per_panel: int, rows=None) -> np.ndarray:
+        """``cumulative_at(fine_grid_s(points_per_panel))`` without per-point panel lookups."""
+        rows = slice(None) if rows is None else np.asarray(rows)
+        anti, edge = self.antideriv[rows], self.edge_cumulative[rows]
+        vander = self._fine_vander(points_per_panel, NODES_PER_PANEL)
+        inside = np.einsum("kpj,mj->kpm", anti, vander) + edge[:, :-1, None]
+        return np.concatenate([inside.reshape(inside.shape[0], -1), edge[:, -1:]], axis=1)
+
+    def values_on_fine_grid(self, points_per_panel: int, rows=None) -> np.ndarray:
+        """``values_at(fine_grid_s(points_per_panel))`` without per-point panel lookups."""
+        rows = slice(None) if rows is None else np.asarray(rows)
+        coef = self.coefficients[rows]
+        vander = self._fine_vander(points_per_panel, NODES_PER_PANEL - 1)
+        inside = np.einsum("kpj,mj->kpm", coef, vander).reshape(coef.shape[0], -1)
+        last = leg.legval(1.0, np.moveaxis(coef[:, -1, :], 1, 0))  # right edge of the last panel
+        return np.concatenate([inside, np.atleast_1d(last).reshape(-1, 1)], axis=1)
+
     def fine_grid_s(self, points_per_panel: int) -> np.ndarray:
         """Uniform sample times inside every panel (edges included once), s."""
         frac = np.arange(points_per_panel) / points_per_panel
         h = np.diff(self.edges_s)
         grid = (self.edges_s[:-1, None] + h[:, None] * frac[None, :]).reshape(-1)
         return np.append(grid, self.edges_s[-1])
+
+
+@functools.lru_cache(maxsize=16)
+def _fine_vander(points_per_panel: int, degree: int) -> np.ndarray:
+    """The fine grid sits at the same fractions of every panel: one small Vandermonde matrix."""
+    u = 2.0 * np.arange(points_per_panel) / points_per_panel - 1.0
+    out = leg.legvander(u, degree)
+    out.setflags(write=False)
+    return out
 
 
 def _panel_nodes(left: np.ndarray, right: np.ndarray) -> np.ndarray:
