@@ -14,10 +14,9 @@ from physics.budget import CAUTION
 from physics.errors import PhysicsInputError
 
 from .. import csv_format
-from ..deps import JsonBody, SettingsDep, parse_json
+from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_INTERNAL,
-    TYPE_MALFORMED_BODY,
     TYPE_TOO_LARGE,
     ProblemError,
     physics_problem,
@@ -35,6 +34,7 @@ from ..schemas import (
 )
 from ..service import budget_from_request, estimate_nodes, merge_item
 from . import openapi_doc as doc
+from . import uploads
 from .query import BudgetQuery, QueryConflict, to_request, with_parameters
 
 router = APIRouter(prefix="/v1", tags=["budgets"])
@@ -58,36 +58,36 @@ def _problem_kwargs(p: dict) -> dict:
     summary="Compute the drift budget of one clock",
     response_class=JSONResponse,
     responses=doc.responses(200, "BudgetResponse", "The budget", (400, 413, 422)),
-    openapi_extra=doc.json_body("BudgetRequest", {
+    openapi_extra=doc.budget_body({
         "meo_circular_point_mass": ("Circular MEO orbit, point-mass Earth, against TT",
                                     EXAMPLE_REQUEST),
         "leo_j2_tai": ("Low orbit with J2 drift and tides, against TAI", EXAMPLE_LEO_J2_REQUEST),
         "ground_clock": ("A clock on a mountain laboratory, against TT", EXAMPLE_GROUND_REQUEST),
     }),
 )
-async def create_budget(body: JsonBody, settings: SettingsDep):
+async def create_budget(request: Request, settings: SettingsDep):
     """Compute the drift budget of one clock against one reference over one span."""
-    req = _validate(body)
-    result = await run_in_threadpool(budget_from_request, req, settings)
+    if not uploads.is_multipart(request):
+        req = _validate(parse_json(await request.body()))
+        return JSONResponse(await run_in_threadpool(budget_from_request, req, settings))
+    up = await uploads.read_upload(request, ("request",))
+    document = uploads.json_document(up, "orbit")
+    if document is not None:  # the request JSON itself, uploaded as a file
+        req = _validate(document)
+        return JSONResponse(await run_in_threadpool(budget_from_request, req, settings))
+    body, parts = uploads.budget_body(up)
+    try:
+        req = BudgetRequest.model_validate(body)
+    except ValidationError as exc:
+        raise uploads.upload_validation_problem(exc, body, parts) from exc
+    try:
+        result = await run_in_threadpool(budget_from_request, req, settings)
+    except PhysicsInputError as exc:
+        raise uploads.upload_physics_problem(exc, parts) from exc
     return JSONResponse(result)
 
 
 # --- Batch ---------------------------------------------------------------------------
-
-async def _batch_payload(request: Request) -> Any:
-    ctype = request.headers.get("content-type", "")
-    if not ctype.lower().startswith("multipart/form-data"):
-        return parse_json(await request.body())
-    async with request.form() as form:
-        upload = form.get("file")
-        if upload is None or isinstance(upload, str):
-            upload = next((v for v in form.values() if not isinstance(v, str)), None)
-        if upload is None:
-            raise ProblemError(400, "No file uploaded",
-                               "A multipart batch needs the JSON document as a file part named 'file'.",
-                               TYPE_MALFORMED_BODY, [{"pointer": "", "detail": "no file part 'file'"}])
-        raw = await upload.read()
-    return parse_json(raw)
 
 
 def _item_prefix(i: int, top: str | None, item: dict, defaults: dict) -> str:
@@ -146,7 +146,14 @@ def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
 )
 async def create_batch(request: Request, settings: SettingsDep):
     """Compute one budget per item; a bad item gets its own problem and the others still run."""
-    payload = await _batch_payload(request)
+    if uploads.is_multipart(request):
+        up = await uploads.read_upload(request, ("request", "defaults"))
+        payload = uploads.json_document(up, "items")
+        if payload is None:  # an orbit file: one item per object in it
+            plan = await uploads.file_batch(up, settings)
+            return await _run_batch(plan.entries, plan.defaults, settings)
+    else:
+        payload = parse_json(await request.body())
     try:
         batch = BatchRequest.model_validate(payload)
     except ValidationError as exc:
@@ -160,19 +167,26 @@ async def create_batch(request: Request, settings: SettingsDep):
             TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"at most {settings.MAX_BATCH_ITEMS} items"}],
             limit_name="MAX_BATCH_ITEMS", limit=settings.MAX_BATCH_ITEMS,
         )
-    defaults = batch.defaults
+    return await _run_batch([(item, None, None) for item in batch.items], batch.defaults, settings)
+
+
+async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings) -> JSONResponse:
+    """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
+    where orbit and source are given for the objects of an uploaded file (parsed once)."""
     results: list[dict] = []
-    planned: list[tuple[int, BudgetRequest, dict]] = []
+    planned: list[tuple[int, BudgetRequest, dict, Any]] = []
     seen: set = set()
     total_nodes = 0
-    for i, item in enumerate(batch.items):
+    for i, (item, orbit, source) in enumerate(entries):
         ident, bad = _item_id(i, item, seen)
         if bad is None:
             merged = merge_item(defaults, item)
+            if orbit is not None:
+                merged["orbit"] = orbit
             try:
                 req = BudgetRequest.model_validate(merged)
-                total_nodes += estimate_nodes(req, settings)
-                planned.append((i, req, item))
+                total_nodes += estimate_nodes(req, settings, source)
+                planned.append((i, req, item, source))
             except ValidationError as exc:
                 bad = _item_validation_problem(i, exc, merged, item, defaults)
             except PhysicsInputError as exc:
@@ -188,9 +202,9 @@ async def create_batch(request: Request, settings: SettingsDep):
             TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {total_nodes} nodes"}],
             limit_name="MAX_BATCH_NODES", limit=settings.MAX_BATCH_NODES, estimated_nodes=total_nodes,
         )
-    for i, req, item in planned:
+    for i, req, item, source in planned:
         try:
-            results[i]["budget"] = await run_in_threadpool(budget_from_request, req, settings)
+            results[i]["budget"] = await run_in_threadpool(budget_from_request, req, settings, source)
         except PhysicsInputError as exc:
             results[i]["problem"] = _item_physics_problem(i, exc, item, defaults)
             results[i]["status"] = 422

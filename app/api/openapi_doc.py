@@ -48,13 +48,53 @@ def json_body(model: str, examples: dict) -> dict:
     }}
 
 
+_FILE_TYPES = ["omm", "opm", "oem", "sp3", "tle_file"]
+
+
+def budget_body(examples: dict) -> dict:
+    """JSON (BudgetRequest), or a multipart upload of an orbit file plus the rest of the request."""
+    body = json_body("BudgetRequest", examples)
+    body["requestBody"]["description"] = (
+        "JSON (BudgetRequest; read as JSON whatever the content type), or multipart/form-data: the "
+        "orbit file (OMM, OPM, OEM, SP3, TLE file; type detected) as part 'file', and the rest of the "
+        "request as a JSON part 'request' or as form fields (start, end or duration_days, reference, "
+        "series_step_s, ...; object_id and the other orbit options too). Error entries name the part.")
+    body["requestBody"]["content"]["multipart/form-data"] = {"schema": {
+        "type": "object", "required": ["file"],
+        "properties": {
+            "file": {"type": "string", "format": "binary", "description": "The orbit file"},
+            "request": {"type": "string", "description": "JSON: the request without its orbit"},
+            "type": {"type": "string", "enum": _FILE_TYPES, "description": "The file's type (detected "
+                     "when omitted)"},
+            "start": {"type": "string", "format": "date-time"},
+            "end": {"type": "string", "format": "date-time"},
+            "duration_days": {"type": "number"},
+            "reference": {"type": "string"},
+            "series_step_s": {"type": "number"},
+            "object_id": {"type": "string", "description": "Which object, when the file holds several"},
+        },
+    }}
+    return body
+
+
 def batch_body(examples: dict) -> dict:
     body = json_body("BatchRequest", examples)
+    body["requestBody"]["description"] = (
+        "JSON (BatchRequest), or multipart/form-data with part 'file' holding either the batch JSON "
+        "document or an orbit file with many objects (TLE file, OMM with several objects, SP3 with "
+        "several satellites, OEM with several objects): one item per object, its id the object's id, "
+        "the shared request fields from a JSON part 'defaults' (or 'request') or form fields.")
     body["requestBody"]["content"]["multipart/form-data"] = {
         "schema": {
             "type": "object", "required": ["file"],
             "properties": {"file": {"type": "string", "format": "binary",
-                                    "description": "The batch JSON document as a file"}},
+                                    "description": "The batch JSON document, or an orbit file"},
+                           "defaults": {"type": "string",
+                                        "description": "JSON: the fields every object's request shares"},
+                           "type": {"type": "string", "enum": _FILE_TYPES},
+                           "start": {"type": "string", "format": "date-time"},
+                           "duration_days": {"type": "number"},
+                           "reference": {"type": "string"}},
         },
     }
     return body
