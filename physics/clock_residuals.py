@@ -104,11 +104,15 @@ def clock_residuals(t_s, clock_offset_s, r_m, v_m_per_s, *, periodic_term_in_dat
     harmonics = {}
     if orbital_period_s is not None and tc[-1] >= orbital_period_s:
         w = 2.0 * np.pi / orbital_period_s
-        cols = [np.ones_like(tc), tc]
+        # Columns of like size and a centred right-hand side: unscaled, t (up to ~1e5 s) against
+        # ones made the solve lose cond x eps x |offset| (5e-15 s on a 2.5e-4 s clock bias).
+        t_scale = tc[-1]
+        y_mean = float(np.mean(y))
+        cols = [np.ones_like(tc), tc / t_scale]
         for k in (1, 2):
             cols += [np.cos(k * w * tc), np.sin(k * w * tc)]
-        coef, *_ = np.linalg.lstsq(np.stack(cols, axis=1), y, rcond=None)
-        slope, intercept = coef[1], coef[0]
+        coef, *_ = np.linalg.lstsq(np.stack(cols, axis=1), y - y_mean, rcond=None)
+        slope, intercept = coef[1] / t_scale, coef[0] + y_mean
         harmonics = {"orbital_period": float(np.hypot(coef[2], coef[3])),
                      "half_orbital_period": float(np.hypot(coef[4], coef[5]))}
         resid = y - (intercept + slope * tc)
