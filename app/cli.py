@@ -1,8 +1,10 @@
-"""Command line: ``taubudget budget REQUEST.json``, ``taubudget stability FILE``, ``taubudget serve``.
+"""Command line: ``taubudget budget REQUEST.json``, ``taubudget stability FILE``,
+``taubudget clock-residuals CLOCKFILE``, ``taubudget serve``.
 
 The budget verb reads the same JSON body as ``POST /v1/budgets`` and prints a
-readable table, or with ``--json`` exactly the response JSON. Exit codes:
-0 success, 2 bad input (the message names the field and the reason).
+readable table, or with ``--json`` exactly the response JSON; ``--orbit-file``
+takes the orbit from an orbit file (type detected) as a multipart upload does.
+Exit codes: 0 success, 2 bad input (the message names the field and the reason).
 """
 
 from __future__ import annotations
@@ -111,9 +113,16 @@ def render_stability(r: dict) -> str:
     """A plain-text deviations table for a terminal."""
     out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s; "
            f"bounds at {r['confidence']:g} confidence; value [lower, upper] (terms)"]
+    out += _deviation_lines(r["deviations"])
+    out.append("")
+    out.append(r["caution"])
+    return "\n".join(out)
+
+
+def _deviation_lines(rows: list[dict]) -> list[str]:
     head = f"{'tau_s':>12}" + "".join(f"  {label:>40}" for _, label in _STAT_COLUMNS)
-    out.append(head)
-    for row in r["deviations"]:
+    out = [head]
+    for row in rows:
         cells = [f"{row['tau_s']:>12.6g}"]
         for key, _ in _STAT_COLUMNS:
             base = key.removesuffix("_s")
@@ -127,9 +136,7 @@ def render_stability(r: dict) -> str:
                 hi_t = "-" if hi is None else f"{hi:.4g}"
                 cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>40}")
         out.append("".join(cells))
-    out.append("")
-    out.append(r["caution"])
-    return "\n".join(out)
+    return out
 
 
 def cmd_stability(args) -> int:
@@ -175,17 +182,47 @@ def cmd_stability(args) -> int:
     return 0
 
 
+def _read_text(path: str) -> str:
+    with open(path, encoding="utf-8-sig") as fh:
+        return fh.read()
+
+
+def _with_orbit_file(body, args):
+    """The request with its orbit taken from ``args.orbit_file`` (options kept from the request)."""
+    from .formats.files import orbit_from_file
+
+    if not isinstance(body, dict):
+        raise ValueError("the request must be a JSON object")
+    options = body.get("orbit", {})
+    if not isinstance(options, dict):
+        raise ValueError("with --orbit-file, 'orbit' may only hold the orbit's options")
+    options = {k: v for k, v in options.items() if k not in ("type", "text")}
+    if args.object_id is not None:
+        options["object_id"] = args.object_id
+    return {**body, "orbit": orbit_from_file(_read_text(args.orbit_file), args.orbit_type, options)}
+
+
 def cmd_budget(args) -> int:
+    from .formats import FormatError
     from .schemas import BudgetRequest
     from .service import budget_from_request
 
     try:
-        req = BudgetRequest.model_validate(_load_json(args.request))
-    except (OSError, json.JSONDecodeError) as exc:
+        body = _load_json(args.request)
+        if args.orbit_file is not None:
+            body = _with_orbit_file(body, args)
+        req = BudgetRequest.model_validate(body)
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
         print(f"cannot read {args.request}: {exc}", file=sys.stderr)
+        return 2
+    except FormatError as exc:
+        print(f"invalid orbit file {args.orbit_file}: {exc}", file=sys.stderr)
         return 2
     except ValidationError as exc:
         print(_fmt_validation(exc), file=sys.stderr)
+        return 2
+    except ValueError as exc:  # a request that is not an object, or an orbit that is not options
+        print(f"invalid request: {exc}", file=sys.stderr)
         return 2
     try:
         result = budget_from_request(req)
@@ -245,6 +282,63 @@ def cmd_contacts(args) -> int:
     return 0
 
 
+def render_clock_residuals(r: dict) -> str:
+    """A plain-text summary of a clock-residual analysis for a terminal."""
+    amp = r["residual_periodic_amplitude_ns"]
+    rows = [
+        ("satellite", f"{r['sat']} ({r['clock_file']['label']}, {r['points']} points from {r['start_utc']}, "
+                      f"{r['span_s'] / 86400:.6f} d)"),
+        ("orbit", r["orbit"].get("source") or r["orbit"].get("propagation") or r["orbit"]["type"]),
+        ("periodic term", "in the data: subtracted" if r["periodic_term_in_data"]
+         else "not in the data (IGS convention): nothing subtracted"),
+        ("secular rate", f"{r['secular_fractional_rate']:.6e} ({r['secular_rate_us_per_day']:.6f} us/day)"),
+        ("offset at start", f"{r['offset_at_start_ns']:.6f} ns (clock minus reference)"),
+        ("-(2/c^2) r.v amplitude", f"{r['periodic_term_amplitude_ns']:.6f} ns"),
+        ("residual RMS", f"{r['residual_rms_ns']:.6g} ns "
+                         f"(peak-to-peak {r['residual_peak_to_peak_ns']:.6g} ns)"),
+    ]
+    if r["orbital_period_s"] is not None and amp:
+        rows.append(("residual periodic", f"{amp['orbital_period']:.6g} ns at the orbital period "
+                     f"({r['orbital_period_s']:.1f} s), {amp['half_orbital_period']:.6g} ns at half of it"))
+    else:
+        rows.append(("residual periodic", "not fitted (the data span less than one orbital period)"))
+    if r["epochs_without_orbit"]:
+        rows.append(("epochs without orbit", f"{r['epochs_without_orbit']} (left out)"))
+    width = max(len(k) for k, _ in rows)
+    out = [f"{k:<{width}}  {v}" for k, v in rows]
+    out += ["", "assumption: " + r["assumption"]]
+    if r.get("deviations"):
+        out += ["", "deviations of the residual (phase, s):"] + _deviation_lines(r["deviations"])
+    out += ["", r["note"], "", r["caution"]]
+    return "\n".join(out)
+
+
+def cmd_clock_residuals(args) -> int:
+    from .measured_clock import clock_residuals_from_texts
+
+    try:
+        clock_text = _read_text(args.clock_file)
+        orbit_text = None if args.orbit is None else _read_text(args.orbit)
+    except (OSError, UnicodeDecodeError) as exc:
+        print(f"cannot read: {exc}", file=sys.stderr)
+        return 2
+    try:
+        result = clock_residuals_from_texts(
+            clock_text, orbit_text, args.sat, periodic_term_in_data=args.periodic_term_in_data,
+            orbit_type=args.orbit_type, orbit_object_id=args.orbit_object_id)
+    except PhysicsInputError as exc:
+        name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get(exc.field)
+        where = f"{exc.field} {name}" if name else exc.field
+        print(f"invalid input: {where}: {exc.reason}", file=sys.stderr)
+        return 2
+    if args.json:
+        json.dump(result, sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    else:
+        print(render_clock_residuals(result))
+    return 0
+
+
 def cmd_serve(args) -> int:
     import uvicorn
 
@@ -254,6 +348,8 @@ def cmd_serve(args) -> int:
 
 
 def build_parser() -> argparse.ArgumentParser:
+    from .formats.files import FILE_TYPES
+    from .measured_clock import PERIODIC_TERM_IN_DATA_DEFAULT
     from .settings import get_settings
 
     s = get_settings()
@@ -262,7 +358,28 @@ def build_parser() -> argparse.ArgumentParser:
     b = sub.add_parser("budget", help="compute a budget from a request JSON file ('-' for stdin)")
     b.add_argument("request")
     b.add_argument("--json", action="store_true", help="print the response JSON")
+    b.add_argument("--orbit-file", default=None,
+                   help="take the orbit from this file (OMM, OPM, OEM, SP3, TLE; type detected); the "
+                   "request's 'orbit', if any, holds only options such as object_id")
+    b.add_argument("--orbit-type", choices=FILE_TYPES, default=None, help="the orbit file's type")
+    b.add_argument("--object-id", default=None, help="which object, when the orbit file holds several")
     b.set_defaults(func=cmd_budget)
+    cr = sub.add_parser("clock-residuals",
+                        help="secular rate and residual periodic part of measured clock offsets")
+    cr.add_argument("clock_file", metavar="CLOCKFILE",
+                    help="RINEX clock file (3.02/3.04 AS records) or SP3 file (its clock column)")
+    cr.add_argument("--orbit", metavar="ORBITFILE", default=None,
+                    help="orbit file (SP3, OEM, OPM, OMM, TLE); default: CLOCKFILE when it is SP3")
+    cr.add_argument("--orbit-type", choices=FILE_TYPES, default=None, help="the orbit file's type")
+    cr.add_argument("--orbit-object-id", default=None,
+                    help="the object in the orbit file when it is named otherwise than --sat")
+    cr.add_argument("--sat", required=True, help="satellite ID as in the clock file (e.g. L51)")
+    cr.add_argument("--periodic-term-in-data", action=argparse.BooleanOptionalAction,
+                    default=PERIODIC_TERM_IN_DATA_DEFAULT,
+                    help="whether the clock values still carry the relativistic periodic term "
+                    "-(2/c^2) r.v; default: no, the IGS convention for clock products (Kouba 2004)")
+    cr.add_argument("--json", action="store_true", help="print the result JSON")
+    cr.set_defaults(func=cmd_clock_residuals)
     st = sub.add_parser("stability", help="ADEV, OADEV, MDEV, TDEV, HDEV of one column of measured data")
     st.add_argument("file", help="one number per line ('#' comments; '-' for stdin)")
     st.add_argument("--data-type", choices=("phase", "frequency"), default=None,
