@@ -45,7 +45,7 @@ TDB0_S = -6.55e-5
 """TDB - TT offset constant at 1977 Jan 1.0 TAI, s (defining; IAU 2006 Resolution B3, TN36)."""
 
 L_C = 1.48082686741e-8
-"""Average of d(TCG)/d(TCB) - 1 along the geocentre, dimensionless (TN36 Table 1.1)."""
+"""Average value of 1 - d(TCG)/d(TCB) along the geocentre, dimensionless (TN36 Table 1.1)."""
 
 W0_M2_PER_S2 = 62_636_856.0
 """Potential of the geoid, m^2/s^2 (TN36 Table 1.1; L_G = W0/c^2)."""

@@ -10,7 +10,7 @@ the Sun at GPS altitude, leaving 1e-12 relative accuracy).
 
 Geocentric Sun and Moon positions come from DE421 (skyfield) on a coarse grid
 (``SUN_MOON_GRID_STEP_S``) and are interpolated with cubic splines; the
-interpolation error is bounded in tests/physics/test_tidal.py.
+interpolation error is bounded in tests/physics/test_frames_and_tides.py.
 """
 
 from __future__ import annotations
