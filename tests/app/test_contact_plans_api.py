@@ -65,5 +65,6 @@ def test_cli_contacts_table_and_json(tmp_path):
     assert "worst error" in table and "Planning estimate" in table
     bad = tmp_path / "bad.json"
     bad.write_text(json.dumps({**_body(), "stations": []}))
-    res = subprocess.run([sys.executable, "-m", "app.cli", "contacts", str(bad)], capture_output=True, text=True)
+    res = subprocess.run([sys.executable, "-m", "app.cli", "contacts", str(bad)],
+                         capture_output=True, text=True)
     assert res.returncode == 2 and "stations" in res.stderr
