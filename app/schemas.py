@@ -139,6 +139,9 @@ class BudgetRequest(_Strict):
         "clock on the Earth's surface")
     frame: Literal["auto", "GCRS", "BCRS"] = Field(
         "auto", description="auto: GCRS for Earth-centred clocks against Earth references, BCRS otherwise")
+    link_station: SurfaceClockIn | None = Field(
+        None, description="A ground station on the Earth: BCRS series gain the light time and Shapiro "
+        "delay from the clock to it")
     start: AwareDatetime
     end: AwareDatetime | None = None
     duration_days: float | None = Field(None, gt=0)

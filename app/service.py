@@ -114,7 +114,18 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
         series_step_s=req.series_step_s, nominal_frequency_hz=req.nominal_frequency_hz,
         max_nodes=settings.MAX_NODES, max_series_points=settings.MAX_SERIES_POINTS,
         frame=None if req.frame == "auto" else req.frame,
+        link_station=_link_station(req),
     )
+
+
+def _link_station(req: BudgetRequest):
+    st = req.link_station
+    if st is None:
+        return None
+    if st.center != "earth":
+        raise PhysicsInputError("link_station.center", st.center, "the link station must be on the Earth")
+    return SurfaceClock(st.latitude_deg, st.longitude_deg, st.height_m, st.geoid_undulation_m,
+                        st.orthometric_height_m, field_prefix="link_station")
 
 
 def budget_from_request(req: BudgetRequest, settings: Settings | None = None, source=None) -> dict:

@@ -117,6 +117,7 @@ class BudgetInputs:
     tol_fractional: float = DEFAULT_TOL_FRACTIONAL
     nodes_scale: float = 1.0  # > 1 shrinks the initial panels (convergence checks)
     frame: str | None = None  # None: automatic (``choose_frame``); "GCRS" or "BCRS" to force
+    link_station: object = None  # SurfaceClock: light time and Shapiro delay to it (BCRS series)
 
 
 MIN_SPAN_S = 1.0
@@ -303,23 +304,57 @@ def _omitted_terms_bcrs(src, grav) -> list[dict]:
     return out
 
 
-def _signal_path_to_earth(src, span, t_s, ss, orientation) -> dict:
-    """One-way light time and solar Shapiro delay between the clock and the geocentre, s.
+LIGHT_TIME_ITERATIONS = 4
+"""Fixed-point iterations of the light-time equation; each gains a factor v/c ~ 1e-4."""
 
-    Light time |x - x_E|/c (geometric, at the same coordinate time); Shapiro delay
-    (2 GM_sun/c^3) ln((r1 + r2 + rho)/(r1 + r2 - rho)) (TN36 eq. 11.17, Sun only).
+MAX_ITERATED_LIGHT_TIME_S = 3000.0
+"""Up to this light time the emission state comes from the span's coarse grids (which extend one
+hour before the start); beyond it the geometric value at the reception time is reported."""
+
+
+def _signal_path_to_earth(src, span, t_s, ss, orientation, station=None) -> dict:
+    """One-way light time (clock -> geocentre, and clock -> ``station``) and solar Shapiro delay.
+
+    Reception at the series time t at the geocentre (or the station, a SurfaceClock carried
+    into the BCRS); emission at t - tau with |x_clock(t - tau) - x_rx(t)| = c (tau - Shapiro),
+    solved by fixed-point iteration. Shapiro delay (2 GM_sun/c^3) ln((r1 + r2 + rho)/(r1 + r2 -
+    rho)) (TN36 eq. 11.17, the Sun only; the Earth's own term, < 0.03 ns for lunar links, is left
+    out). Coordinate light times in TCB-compatible seconds; planning values, not a link model.
     """
     from .constants import C_M_PER_S
 
-    st = src.states_bcrs(span, t_s, ss, orientation)
+    def one_way(x_rx):
+        xs_rx = ss.position_m("sun", t_s)
+        tau = np.linalg.norm(src.states_bcrs(span, t_s, ss, orientation).r_m - x_rx, axis=1) / C_M_PER_S
+        iterated = bool(np.all(tau < MAX_ITERATED_LIGHT_TIME_S))
+        shapiro = np.zeros_like(tau)
+        for _ in range(LIGHT_TIME_ITERATIONS if iterated else 0):
+            x_tx = src.states_bcrs(span, t_s - tau, ss, orientation).r_m
+            rho = np.linalg.norm(x_tx - x_rx, axis=1)
+            r1 = np.linalg.norm(x_tx - ss.position_m("sun", t_s - tau), axis=1)
+            r2 = np.linalg.norm(x_rx - xs_rx, axis=1)
+            shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
+            tau = rho / C_M_PER_S + shapiro
+        if not iterated:
+            x_tx = src.states_bcrs(span, t_s, ss, orientation).r_m
+            rho = np.linalg.norm(x_tx - x_rx, axis=1)
+            r1 = np.linalg.norm(x_tx - xs_rx, axis=1)
+            r2 = np.linalg.norm(x_rx - xs_rx, axis=1)
+            shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
+            tau = rho / C_M_PER_S + shapiro
+        return tau, shapiro, iterated
+
     xe = ss.position_m("earth", t_s)
-    xs = ss.position_m("sun", t_s)
-    rho = np.linalg.norm(st.r_m - xe, axis=1)
-    r1 = np.linalg.norm(st.r_m - xs, axis=1)
-    r2 = np.linalg.norm(xe - xs, axis=1)
-    shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
-    return {"light_time_to_earth_s": (rho / C_M_PER_S).tolist(),
-            "shapiro_delay_to_earth_s": shapiro.tolist()}
+    tau, shapiro, iterated = one_way(xe)
+    out = {"light_time_to_earth_s": tau.tolist(), "shapiro_delay_to_earth_s": shapiro.tolist(),
+           "light_time_method": "iterated from emission to reception" if iterated
+           else "geometric at the reception time (light time beyond the coarse grid's margin)"}
+    if station is not None:
+        r_sta, _ = orientation.itrs_to_gcrs(station.r_itrs_m, t_s)
+        tau_s, shapiro_s, _ = one_way(xe + r_sta)
+        out["light_time_to_station_s"] = tau_s.tolist()
+        out["shapiro_delay_to_station_s"] = shapiro_s.tolist()
+    return out
 
 
 @dataclass
@@ -587,7 +622,8 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             "eccentricity_term_ns": (ecc_out * 1e9).tolist(),
         }
         if frame == "BCRS":
-            data["series"].update(_signal_path_to_earth(bsrc, span, ts_out, ss, env.orientation))
+            data["series"].update(_signal_path_to_earth(bsrc, span, ts_out, ss, env.orientation,
+                                                        inputs.link_station))
     else:
         data["series"] = None
     data["caution"] = CAUTION

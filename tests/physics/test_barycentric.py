@@ -111,3 +111,24 @@ def test_barycentric_input_errors(ts):
     with pytest.raises(PhysicsInputError) as info:
         compute_budget(BudgetInputs(probe, SurfaceClock(0, 0, 0), Span(start, 86400.0), FULL))
     assert info.value.field == "reference"
+
+
+def test_light_time_to_mars_against_skyfield(ts):
+    # skyfield's observe() iterates the light time to the geocentre (Rhodes, skyfield docs);
+    # our surface clock sits up to one Mars radius (3,387 km = 11.3 ms) off the centre, and our
+    # value adds the solar Shapiro delay (< 0.1 ms here). The geometric distance at reception
+    # is ~27 ms off on this date, so the check tells the iterated solution from the naive one.
+    from physics.ephemeris import ephemeris
+    from physics.orbits import SurfaceClock
+
+    eph = ephemeris()
+    span = Span(ts.utc(2028, 6, 1), 2 * 86400.0)
+    inputs = BudgetInputs(BodySurfaceClock("mars", 0.0, 0.0, -2000.0), "TDB", span, FULL,
+                          series_step_s=21600.0, link_station=SurfaceClock(35.0, 140.0, 50.0))
+    s = compute_budget(inputs).to_dict()["series"]
+    t = span.times(np.asarray(s["elapsed_s"]))
+    sky = eph["earth"].at(t).observe(eph["mars"]).light_time * 86400.0
+    assert np.max(np.abs(np.asarray(s["light_time_to_earth_s"]) - sky)) < 0.0115
+    # The station is at most one Earth radius (21.3 ms) nearer or farther than the geocentre.
+    d = np.asarray(s["light_time_to_station_s"]) - np.asarray(s["light_time_to_earth_s"])
+    assert np.max(np.abs(d)) < 0.0213 and np.max(np.abs(d)) > 1e-3
