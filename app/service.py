@@ -176,24 +176,21 @@ def merge_item(defaults: dict, item: dict) -> dict:
 def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=None) -> int:
     """Cheap up-front estimate of the quadrature nodes one request needs.
 
-    The integrator starts with panels of half an orbital period (at most
-    ``physics.budget.MAX_PANEL_S``, at least ``MIN_PANEL_S``) and
+    The integrator starts with panels of ``physics.budget.initial_panel_s`` (a fraction
+    of the orbital period within the panel limits) and
     ``physics.quadrature.NODES_PER_PANEL`` nodes each; adaptive splitting near a
     high-eccentricity perigee adds more, which the per-request ``MAX_NODES`` still
     bounds. Raises ``PhysicsInputError`` for an unusable orbit or span.
     """
     import math
 
-    from physics.budget import MAX_PANEL_S, MIN_PANEL_S
+    from physics.budget import initial_panel_s
     from physics.quadrature import NODES_PER_PANEL
 
     settings = settings or get_settings()
     source = build_source(req.orbit) if source is None else source
     span = build_span(req, settings)
-    period = source.period_s()
-    panel = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / 2.0)
-    panel = max(MIN_PANEL_S, panel)
-    return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / panel))
+    return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / initial_panel_s(source)))
 
 
 # --- The oscillator's own time error (additive) ------------------------------------------

@@ -51,6 +51,7 @@ from .rate import TERM_NAMES, GravityModel, integrand_terms
 from .rate_bcrs import BCRS_REFERENCES, BCRS_TERM_NAMES, bcrs_integrand_terms
 from .solar_system import solar_system_for
 from .span import Span
+from .threads import single_threaded_blas
 
 BCRS_ONLY_REFERENCES = ("TCB", "TDB", "lunar_surface")
 TT_FAR_FROM_EARTH = (
@@ -89,12 +90,13 @@ extreme of a sinusoid is within 1 - cos(pi/48) = 0.2 % of the true one)."""
 HARMONICS = 4
 """Orbital-period harmonics fitted jointly with the secular line."""
 
-MAX_PANEL_S = 6 * 3600.0
-"""Longest panel: keeps the Moon's semi-diurnal tide well resolved, s."""
+MAX_PANEL_S = 12 * 3600.0
+"""Longest first panel, s: half a day, so the Moon's semi-diurnal tide has 20 nodes per cycle
+(the tail test splits panels where the integrand needs more)."""
 
 MIN_PANEL_S = 60.0
 
-PANELS_PER_PERIOD = 2.0
+PANELS_PER_PERIOD = 1.0
 """First panels span 1/PANELS_PER_PERIOD of an orbit (then halved where the tail test fails;
 full-orbit panels fail it for LEO, whose rate is rich in harmonics)."""
 
@@ -141,7 +143,8 @@ def _check_span(span: Span):
         )
 
 
-def _initial_panel_s(source, nodes_scale: float) -> float:
+def initial_panel_s(source, nodes_scale: float = 1.0) -> float:
+    """Length of the first panels, s: 1/PANELS_PER_PERIOD of the orbit, within [MIN, MAX]_PANEL_S."""
     period = source.period_s()
     base = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / PANELS_PER_PERIOD)
     return max(MIN_PANEL_S, base) / nodes_scale
@@ -397,6 +400,7 @@ class Budget:
 
 def compute_budget(inputs: BudgetInputs) -> Budget:
     """Compute the drift budget of ``inputs.source`` against ``inputs.reference``."""
+    single_threaded_blas()
     span = inputs.span
     _check_span(span)
     env = environment_for(span)
@@ -440,7 +444,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
 
     try:
         q = integrate(
-            fun, 0.0, span.duration_s, _initial_panel_s(src, inputs.nodes_scale),
+            fun, 0.0, span.duration_s, initial_panel_s(src, inputs.nodes_scale),
             tol_fractional=inputs.tol_fractional, max_nodes=inputs.max_nodes,
         )
     except NodeBudgetExceeded as exc:

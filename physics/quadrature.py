@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.polynomial import legendre as leg
 
-NODES_PER_PANEL = 16
+NODES_PER_PANEL = 20
 MAX_LEVELS = 14
 DEFAULT_TOL_FRACTIONAL = 1e-18
 """Accepted tail error per second of span, s/s: 100 x below the 1 ps/day target."""

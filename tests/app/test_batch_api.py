@@ -9,7 +9,8 @@ import math
 import pytest
 
 from app.schemas import EXAMPLE_BATCH_REQUEST
-from physics.budget import CAUTION
+from physics.budget import CAUTION, PANELS_PER_PERIOD
+from physics.quadrature import NODES_PER_PANEL
 
 # Kouba (2004), GPS Solutions 8(3):170-180: circular a = 26,561.4 km, point-mass Earth, vs TT.
 KOUBA_RATE_US_PER_DAY = 38.575008
@@ -116,11 +117,13 @@ def test_node_estimate_over_limit_is_413_before_any_work(small_client, problem_o
     # A 550 km orbit: T = 2 pi sqrt(a^3 / GM) (Kepler's third law, GM = 3.986004418e14, TN36).
     a_m = (6378.137 + 550.0) * 1e3
     period_s = 2 * math.pi * math.sqrt(a_m**3 / 3.986004418e14)  # ~5739 s
-    span_s = 2.5 * 86400.0
-    expected = 2 * 16 * math.ceil(span_s / (period_s / 2))  # 2 items x 16 nodes per half orbit
+    span_s = 2.9 * 86400.0  # below small_client's 3-day span limit
+    # 3 items x NODES_PER_PANEL nodes per first panel of 1/PANELS_PER_PERIOD orbit.
+    expected = 3 * NODES_PER_PANEL * math.ceil(span_s / (period_s / PANELS_PER_PERIOD))
     assert expected > 2000  # small_client's MAX_BATCH_NODES
     low = _orbit(a_km=a_m / 1e3)
-    body = _batch({"id": "low-1", "orbit": low}, {"id": "low-2", "orbit": low}, duration_days=2.5)
+    body = _batch({"id": "low-1", "orbit": low}, {"id": "low-2", "orbit": low},
+                  {"id": "low-3", "orbit": low}, duration_days=2.9)
     p = problem_of(small_client.post("/v1/budgets/batch", json=body), 413)
     assert p["limit_name"] == "MAX_BATCH_NODES" and p["limit"] == 2000
     assert p["estimated_nodes"] == expected
@@ -130,9 +133,11 @@ def test_node_estimate_over_limit_is_413_before_any_work(small_client, problem_o
 def test_node_estimate_reported(client):
     body = _batch({"id": "one", "orbit": _orbit()})
     out = client.post("/v1/budgets/batch", json=body).json()
-    # One day over half-periods of 21,540.6 s: ceil(86400 / 21540.6) = 5 panels of 16 nodes.
-    assert out["estimated_nodes"] == 80
-    assert out["items"][0]["budget"]["nodes_used"] >= 80
+    # One day over first panels of one 43,081 s period (physics.budget.PANELS_PER_PERIOD = 1):
+    # ceil(86400 / 43081.2) = 3 panels of NODES_PER_PANEL nodes.
+    expected = NODES_PER_PANEL * math.ceil(86400.0 / (43081.2 / PANELS_PER_PERIOD))
+    assert out["estimated_nodes"] == expected
+    assert out["items"][0]["budget"]["nodes_used"] >= expected
 
 
 def test_envelope_errors(client, problem_of, pointers_of):
