@@ -45,7 +45,7 @@ MAX_PASSES = 5000
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
 
 class _Open(BaseModel):
@@ -216,6 +216,12 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
     """Compute the contact-plan JSON for one request (planning estimate; carries ``caution``)."""
     settings = settings or get_settings()
     inputs = budget_inputs(req, settings)
+    if getattr(inputs.source, "frame", "GCRS") != "GCRS":
+        raise PhysicsInputError(
+            "orbit.center", getattr(req.orbit, "center", None),
+            "ground contacts are planned for Earth-centred orbits (Keplerian around the Earth, TLE, "
+            "state vectors and Earth-orbit files)",
+        )
     inputs.series_step_s = None  # the plan does not need the budget's series
     budget = compute_budget(inputs)
     span, src = inputs.span, inputs.source

@@ -52,6 +52,10 @@ def parse_json(raw: bytes) -> Any:
     except ValueError as exc:
         raise ProblemError(400, "Malformed JSON", f"The body is not valid JSON: {exc}.",
                            TYPE_MALFORMED_BODY, [{"pointer": "", "detail": str(exc)}]) from exc
+    except RecursionError as exc:
+        raise ProblemError(400, "Malformed JSON", "The body nests arrays or objects too deeply to be "
+                           "a request.", TYPE_MALFORMED_BODY,
+                           [{"pointer": "", "detail": "nesting too deep"}]) from exc
 
 
 async def read_json_body(request: Request) -> Any:

@@ -23,7 +23,7 @@ from .formats.models import (
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
 
 class KeplerianOrbitIn(_Strict):

@@ -99,6 +99,7 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
     if isinstance(reference, SurfaceClockIn):
         reference = build_source(reference, prefix="reference")
     span = build_span(req, settings)
+    _check_numerical_cost(source, span, settings)
     if req.series_step_s is not None:
         points = span.duration_s / req.series_step_s
         if points > settings.MAX_SERIES_POINTS:
@@ -116,6 +117,22 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
         frame=None if req.frame == "auto" else req.frame,
         link_station=_link_station(req),
     )
+
+
+def _check_numerical_cost(source, span: Span, settings: Settings):
+    """Refuse up front a numerical propagation longer than MAX_NUMERICAL_REVOLUTIONS orbits."""
+    from physics.orbits import NumericalOrbit
+
+    if not isinstance(source, NumericalOrbit):
+        return
+    revolutions = span.duration_s / source.period_s()
+    if revolutions > settings.MAX_NUMERICAL_REVOLUTIONS:
+        raise PhysicsInputError(
+            "end", round(span.duration_s / SECONDS_PER_DAY, 6),
+            f"a state-vector orbit is integrated numerically, and this span covers {revolutions:.0f} "
+            f"revolutions, above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
+            "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); shorten the span or give mean elements (TLE/OMM)",
+        )
 
 
 def _link_station(req: BudgetRequest):

@@ -126,6 +126,33 @@ MIN_SPAN_S = 1.0
 """Shortest span a budget integrates, s: below it no rate or periodic part is meaningful."""
 
 
+TLE_MAX_EPOCH_DISTANCE_DAYS = 365.0
+"""Refuse SGP4 propagation farther than this from the element epoch, days."""
+
+TLE_WARN_EPOCH_DISTANCE_DAYS = 30.0
+"""Warn beyond this: mean elements lose accuracy over weeks (common practice)."""
+
+
+def _check_tle_epoch(src, span: Span) -> list[str]:
+    """Refuse SGP4 propagation a year or more from the TLE epoch; warn beyond a month."""
+    epoch = src.epoch() if hasattr(src, "epoch") else None
+    if epoch is None or getattr(src, "kind", "") != "tle":
+        return []
+    e = float(span.seconds_after_start(epoch))  # epoch - start, s
+    nearest = 0.0 if 0.0 <= e <= span.duration_s else min(abs(e), abs(e - span.duration_s))
+    days = nearest / SECONDS_PER_DAY
+    if days > TLE_MAX_EPOCH_DISTANCE_DAYS:
+        raise PhysicsInputError(
+            "start", span.start.utc_strftime("%Y-%m-%d"),
+            f"the span lies {days:.0f} days from the TLE epoch; SGP4 mean elements are not meant to "
+            f"be propagated that far (limit {TLE_MAX_EPOCH_DISTANCE_DAYS:.0f} days): use recent elements",
+        )
+    if days > TLE_WARN_EPOCH_DISTANCE_DAYS:
+        return [f"the span lies {days:.0f} days from the TLE epoch: SGP4 positions degrade over weeks "
+                "(drag, solar activity); treat the periodic part with care"]
+    return []
+
+
 def _check_span(span: Span):
     if not span.duration_s >= MIN_SPAN_S:
         raise PhysicsInputError(
@@ -403,9 +430,17 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     single_threaded_blas()
     span = inputs.span
     _check_span(span)
+    warnings = _check_tle_epoch(inputs.source, span)
     env = environment_for(span)
     src, ref, grav = inputs.source, inputs.reference, inputs.gravity
     frame = inputs.frame or choose_frame(src, ref)
+    if frame == "GCRS" and choose_frame(src, ref) == "BCRS":
+        raise PhysicsInputError(
+            "frame", "GCRS",
+            "this clock or reference needs the barycentric frame (an orbit around the Sun, Moon or "
+            "Mars, a clock on the Moon or Mars, or a TCB, TDB or lunar_surface reference): use "
+            "\"frame\": \"BCRS\" or \"auto\"",
+        )
     if frame == "BCRS":
         if not isinstance(ref, str) or ref not in BCRS_REFERENCES:
             raise PhysicsInputError(
@@ -454,6 +489,11 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             f"{exc.max_nodes}; shorten the span or split it",
         ) from exc
 
+    if not np.all(np.isfinite(q.values[0])):
+        raise PhysicsInputError(
+            "orbit", None, "the clock's rate is not finite at some nodes: check the inputs for "
+            "NaN, infinite or extreme values",
+        )
     rv_row = rows_names.index("r_dot_v")
     rv0 = q.values_at(np.array([0.0]), rows=[rv_row])[0][0]
     ecc_scale = 1.0 / ((1.0 - L_G) * C2_M2_PER_S2)
@@ -630,6 +670,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
                                                         inputs.link_station))
     else:
         data["series"] = None
+    data["warnings"] = warnings
     data["caution"] = CAUTION
     return Budget(data, q.node_count, q, float(rate_vs_tt), ecc_scale, float(rv0),
                   rows_names.index("r_dot_v"))

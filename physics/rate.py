@@ -70,6 +70,19 @@ class NodeRates:
         return sum(self.terms.values())
 
 
+def ground_clock_earth_potential(source, n: int):
+    """Earth's potential at a clock fixed on the Earth: (u_monopole, u_rest), m^2/s^2, each (n,).
+
+    GRS80 normal field at the clock's ITRS position plus the disturbing potential gamma N on the
+    geoid (Bruns); ``u_rest`` is everything but GM/r. Used in both the GCRS and the BCRS.
+    """
+    rn = float(np.linalg.norm(source.r_itrs_m))
+    u_mono = GRS80_GM_M3_PER_S2 / rn
+    u_normal = float(normal_gravitational_potential(source.r_itrs_m)[0])
+    disturbing = normal_gravity_on_ellipsoid(source.geodetic_lat_rad) * (source.geoid_undulation_m or 0.0)
+    return np.full(n, u_mono), np.full(n, u_normal - u_mono + disturbing)
+
+
 def clock_terms_vs_tt(source, t_s: np.ndarray, gravity: GravityModel, env) -> NodeRates:
     """Rate terms of the clock ``source`` against TT at node times ``t_s``."""
     states = source.states(env.span, t_s, env.orientation)
@@ -77,13 +90,7 @@ def clock_terms_vs_tt(source, t_s: np.ndarray, gravity: GravityModel, env) -> No
     v2 = np.einsum("ni,ni->n", v, v)
     scale = -_INV_1_MINUS_LG / C2_M2_PER_S2
     if source.is_surface:
-        rn = np.linalg.norm(r, axis=1)
-        u_mono = GRS80_GM_M3_PER_S2 / rn
-        r_itrs = np.broadcast_to(source.r_itrs_m, r.shape)
-        u_normal = normal_gravitational_potential(r_itrs)
-        n_m = source.geoid_undulation_m or 0.0
-        disturbing = normal_gravity_on_ellipsoid(source.geodetic_lat_rad) * n_m
-        u_zonal = u_normal - u_mono + disturbing
+        u_mono, u_zonal = ground_clock_earth_potential(source, len(t_s))
     else:
         pole = None
         if gravity.earth_zonal_degree >= 2 and states.sin_lat is None:

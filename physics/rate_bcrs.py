@@ -28,7 +28,7 @@ import numpy as np
 from .body_rotation import MOON_ROTATION_RATE_RAD_PER_S
 from .constants import C2_M2_PER_S2, GM_MOON_M3_PER_S2, L_B, L_G, MOON_MEAN_RADIUS_M
 from .potential.earth import earth_potential
-from .rate import NodeRates
+from .rate import NodeRates, ground_clock_earth_potential
 from .solar_system import GM_M3_PER_S2, PLANETS
 
 BCRS_TERM_NAMES = ("velocity", "sun", "earth", "moon", "planets", "time_scale", "reference")
@@ -102,7 +102,12 @@ def bcrs_integrand_terms(source, reference: str, t_s, gravity, ss, orientation, 
     xe = ss.position_m("earth", t_s)
     r_geo = x - xe
     r_geo_norm = np.linalg.norm(r_geo, axis=1)
-    if gravity.earth_zonal_degree >= 2 and np.all(r_geo_norm < EARTH_ZONAL_RANGE_M):
+    inner = getattr(source, "source", None)
+    if inner is not None and inner.is_surface:
+        # A clock on the Earth: the normal field plus gamma N, as in the GCRS (DESIGN.md).
+        mono, rest = ground_clock_earth_potential(inner, len(t_s))
+        u_earth = mono + rest
+    elif gravity.earth_zonal_degree >= 2 and np.all(r_geo_norm < EARTH_ZONAL_RANGE_M):
         mono, zonal = earth_potential(r_geo, orientation.pole_gcrs(t_s), gravity.earth_zonal_degree,
                                       GM_M3_PER_S2["earth"])
         u_earth = mono + zonal

@@ -272,7 +272,8 @@ async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep):
             detail = f"{q.field} has no value for this request: {why}"
             raise ProblemError(422, "No value", detail + ".", errors=[
                 {"pointer": "/field", "parameter": "field", "detail": detail}]) from exc
-        return PlainTextResponse(text)
+        # A single number cannot carry the caution in its body: it travels as a header.
+        return PlainTextResponse(text, headers={"X-Taubudget-Caution": CAUTION})
     if req.series_step_s is not None:
         text = csv_format.series_csv(result)
         name = "budget-series.csv"

@@ -21,7 +21,7 @@ SummaryField = Literal[SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS]  # type: ignore[va
 class BudgetQuery(BaseModel):
     """Query parameters of the CSV endpoint (units in the names, as in the JSON body)."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
     # Keplerian elements (GCRS, Earth-centred)
     semi_major_axis_km: float | None = Field(None, examples=[26561.4])

@@ -26,7 +26,7 @@ from .common import MAX_TEXT_CHARS
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
 
 class ForceModelIn(_Strict):

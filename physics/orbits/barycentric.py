@@ -44,6 +44,10 @@ CENTRES = {
 }
 """centre: (GM m^3/s^2, radius m, name of its rate term)."""
 
+MAX_APOAPSIS_M = {"sun": 1.5e14, "moon": 6.2e7, "mars": 1.08e9}
+"""Largest apoapsis accepted, m: the Hill spheres of the Moon (~61,500 km) and Mars (~1.08e6 km),
+common practice; around the Sun ~1,000 au, beyond which DE421's bodies are not the whole story."""
+
 _ROTATION = {"moon": MOON_ROTATION_RATE_RAD_PER_S, "mars": MARS_ROTATION_RATE_RAD_PER_S}
 _RADIUS = {"moon": MOON_MEAN_RADIUS_M, "mars": MARS_MEAN_RADIUS_M}
 
@@ -83,6 +87,13 @@ class CentredKeplerianOrbit(BarycentricSource):
                 "orbit.eccentricity", e,
                 f"eccentricity {e} is not elliptic (0 <= e < 1): hyperbolic or parabolic elements are "
                 f"not a closed orbit around the {center}",
+            )
+        if a * (1 + e) > MAX_APOAPSIS_M[center]:
+            raise PhysicsInputError(
+                "orbit.semi_major_axis_km", a / 1e3,
+                f"apoapsis radius {a * (1 + e) / 1e3:.4g} km is beyond "
+                f"{MAX_APOAPSIS_M[center] / 1e3:.3g} km, where a two-body orbit around the {center} "
+                "is not a usable model",
             )
         if a * (1 - e) <= radius:
             raise PhysicsInputError(

@@ -25,6 +25,9 @@ from ..errors import PhysicsInputError
 from ..kepler import elements_to_state
 from .base import OrbitSource, States
 
+EARTH_HILL_RADIUS_M = 1.5e9
+"""Radius of the Earth's Hill sphere, a (m/3M)^(1/3) ~ 1.5e6 km (common practice)."""
+
 MIN_PERIGEE_ALTITUDE_M = 0.0
 """A perigee below the equatorial radius is refused (the orbit hits the Earth)."""
 
@@ -57,6 +60,13 @@ class KeplerianOrbit(OrbitSource):
                 "orbit.eccentricity", e,
                 f"eccentricity {e} is not elliptic (0 <= e < 1); hyperbolic or parabolic "
                 "elements do not describe a clock bound to the Earth",
+            )
+        if a * (1.0 + e) > EARTH_HILL_RADIUS_M:
+            raise PhysicsInputError(
+                "orbit.semi_major_axis_km", a / 1e3,
+                f"apogee radius {a * (1 + e) / 1e3:.4g} km is beyond the Earth's Hill sphere "
+                f"(~{EARTH_HILL_RADIUS_M / 1e3:.3g} km), where an Earth-centred two-body orbit is not "
+                "bound; give the orbit around the Sun (\"center\": \"sun\")",
             )
         rp = a * (1.0 - e)
         if rp <= EARTH_EQUATORIAL_RADIUS_M + MIN_PERIGEE_ALTITUDE_M:

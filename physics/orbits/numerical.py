@@ -204,6 +204,12 @@ class NumericalOrbit(OrbitSource):
                 f"{field_prefix}.force_model.earth_zonal_degree", zonal_degree,
                 f"zonal degree must be 0 or 2..{MAX_ZONAL_DEGREE}",
             )
+        if np.linalg.norm(r) <= EARTH_EQUATORIAL_RADIUS_M:
+            raise PhysicsInputError(
+                f"{field_prefix}.position_gcrs_km", (r / 1e3).tolist(),
+                f"the position is {np.linalg.norm(r) / 1e3:.0f} km from the geocentre, inside the "
+                f"Earth (equatorial radius {EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km)",
+            )
         a, e, inc = osculating_elements(r, v, gm_m3_per_s2)
         if not math.isfinite(a) or e >= 1.0:
             raise PhysicsInputError(

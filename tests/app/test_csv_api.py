@@ -81,6 +81,7 @@ def test_single_field_is_the_json_number(client):
         assert resp.status_code == 200
         assert resp.headers["content-type"].startswith("text/plain")
         assert float(resp.text) == lookup(budget, name), name
+        assert "Planning estimate" in resp.headers["x-taubudget-caution"]  # the caution travels
     # tiny fractional values come out in scientific notation
     text = client.get("/v1/budgets.csv", params={**CIRCULAR, "field": "mean_fractional_rate"}).text
     assert "e-10" in text and math.isfinite(float(text))
