@@ -382,7 +382,7 @@ EXAMPLE_LEO_J2_REQUEST = {
 """An invented sun-synchronous-like low orbit with J2 drift, half a day against TAI."""
 
 EXAMPLE_GROUND_REQUEST = {
-    "orbit": {"type": "surface", "latitude_deg": 47.25, "longitude_deg": 11.4, "height_m": 1200.0,
+    "orbit": {"type": "surface", "latitude_deg": 46.61, "longitude_deg": 10.27, "height_m": 1200.0,
               "geoid_undulation_m": 48.0},
     "reference": "TT",
     "start": "2027-01-01T00:00:00Z", "duration_days": 1.0,
