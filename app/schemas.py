@@ -389,6 +389,27 @@ EXAMPLE_GROUND_REQUEST = {
 }
 """An invented mountain-laboratory clock against TT."""
 
+EXAMPLE_LUNAR_REQUEST = {
+    "orbit": {"type": "surface", "center": "moon", "latitude_deg": -12.5, "longitude_deg": 23.4,
+              "height_m": 0.0},
+    "reference": "TT",
+    "start": "2028-01-01T00:00:00Z", "duration_days": 27.55,
+    "series_step_s": 86400,
+}
+"""An invented lunar-surface beacon clock against TT (barycentric budget) over one month."""
+
+EXAMPLE_HELIOCENTRIC_REQUEST = {
+    "orbit": {"type": "keplerian", "center": "sun", "reference_plane": "ecliptic_j2000",
+              "epoch": "2030-04-01T00:00:00Z", "semi_major_axis_km": 188000000.0, "eccentricity": 0.2,
+              "inclination_deg": 1.5, "ra_of_asc_node_deg": 40.0, "arg_of_pericenter_deg": 200.0,
+              "mean_anomaly_deg": 10.0},
+    "reference": "TDB",
+    "start": "2030-04-01T00:00:00Z", "duration_days": 10.0,
+    "series_step_s": 86400,
+    "link_station": {"type": "surface", "latitude_deg": -30.2, "longitude_deg": 149.1, "height_m": 300.0},
+}
+"""An invented heliocentric cruise probe against TDB, with the light time to a ground station."""
+
 EXAMPLE_BATCH_REQUEST = {
     "defaults": {
         "reference": "GPS", "start": "2027-03-01T00:00:00Z", "duration_days": 1.0,

@@ -27,7 +27,9 @@ from ..problems import (
 from ..schemas import (
     EXAMPLE_BATCH_REQUEST,
     EXAMPLE_GROUND_REQUEST,
+    EXAMPLE_HELIOCENTRIC_REQUEST,
     EXAMPLE_LEO_J2_REQUEST,
+    EXAMPLE_LUNAR_REQUEST,
     EXAMPLE_REQUEST,
     BatchRequest,
     BudgetRequest,
@@ -63,6 +65,10 @@ def _problem_kwargs(p: dict) -> dict:
                                     EXAMPLE_REQUEST),
         "leo_j2_tai": ("Low orbit with J2 drift and tides, against TAI", EXAMPLE_LEO_J2_REQUEST),
         "ground_clock": ("A clock on a mountain laboratory, against TT", EXAMPLE_GROUND_REQUEST),
+        "lunar_surface_clock": ("A clock on the Moon against TT (BCRS; TT along the geocentre)",
+                                EXAMPLE_LUNAR_REQUEST),
+        "heliocentric_probe": ("A cruise probe against TDB with light time to a station",
+                               EXAMPLE_HELIOCENTRIC_REQUEST),
     }),
 )
 async def create_budget(request: Request, settings: SettingsDep):
