@@ -26,9 +26,11 @@ from .settings import Settings, get_settings
 
 DESCRIPTION = f"""Relativistic clock-offset budgets for satellites and ground clocks.
 
-Send orbit elements (Keplerian, TLE or a surface position), a reference (TT, TAI, GPS, TCG or a
-ground clock) and a span; get the mean rate, its decomposition, the frequency preset, the periodic
-part and the accumulated offset (clock minus reference). Errors are RFC 9457 problem+json.
+Send an orbit (Keplerian elements around the Earth, Sun, Moon or Mars; a TLE; a state vector; a
+CCSDS OMM/OPM/OEM, SP3 or TLE file; or a clock on the Earth, Moon or Mars), a reference (TT, TAI,
+GPS, TCG, TCB, TDB, lunar_surface or a ground clock) and a span; get the mean rate, its
+decomposition, the frequency preset, the periodic part and the accumulated offset (clock minus
+reference), with an optional clock model and contact planning. Errors are RFC 9457 problem+json.
 
 **Caution.** {CAUTION}
 """
