@@ -67,6 +67,11 @@ def render_table(b: dict) -> str:
     out.append("terms (fractional):")
     for name, val in b["terms_fractional"].items():
         out.append(f"  {name:<{width - 2}}  {val: .6e}")
+    if b.get("frame") == "BCRS":
+        out.append(f"frame: BCRS. {b.get('tt_convention', '')}")
+        if b.get("position_term"):
+            out.append(f"position term v_B.(x - x_B)/c^2: {b['position_term']['amplitude_ns']:.3f} ns "
+                       "amplitude (in the offset and the periodic part)")
     out.append("omitted terms (size, fractional):")
     for term in b["omitted_terms"]:
         out.append(f"  {term['term']:<{width + 16}}  {term['size_fractional']:.1e}")
@@ -74,6 +79,8 @@ def render_table(b: dict) -> str:
     if ce:
         out.append("")
         out += _clock_rows(ce, width)
+    for warning in b.get("warnings") or []:
+        out.append(f"warning: {warning}")
     out.append("")
     out.append(b["caution"])
     return "\n".join(out)
