@@ -311,7 +311,7 @@ def _near_base_body(src, ref, span, ss, env) -> bool:
     return bool(np.max(np.linalg.norm(x - ss.position_m(base, t), axis=1)) < POSITION_TERM_RANGE_M)
 
 
-def _omitted_terms_bcrs(src, grav) -> list[dict]:
+def _omitted_terms_bcrs(src, grav, reference=None) -> list[dict]:
     out = [
         {"term": "post_newtonian_c4", "size_fractional": 1e-16,
          "note": "O(c^-4) terms of the BCRS metric: (U/c^2)^2 ~ 1e-16 at 1 au (TN36 section 10.1)"},
@@ -327,6 +327,15 @@ def _omitted_terms_bcrs(src, grav) -> list[dict]:
     if center == "mars":
         out.append({"term": "mars_zonal_harmonics", "size_fractional": 1.96e-3 * 0.5 * 1.26e7 / C2_M2_PER_S2,
                     "note": "Mars J2 = 1.96e-3 (common practice) at the surface; point-mass Mars used"})
+    if reference == "lunar_surface":
+        # The reference clock sits on a point-mass Moon's mean equatorial sphere. Its J2 term there
+        # is +(J2/2) GM_M/R_M (P2(0) = -1/2); the Earth's tide averaged over the equator is
+        # GM_E R_M^2/(4 r^3) ~ 5 m^2/s^2 (P2 averages to P2(0) P2(sin beta) ~ 1/4), ~5e-17.
+        out.append({"term": "lunar_surface_reference_moon_zonal_harmonics",
+                    "size_fractional": 2.03e-4 * 0.5 * 2.82e6 / C2_M2_PER_S2,
+                    "note": "the lunar_surface reference uses a point-mass Moon: lunar J2 = 2.03e-4 "
+                    "(common practice) on its equator is left out; the Earth's tide averaged over "
+                    "the lunar equator (~5e-17) is left out too"})
     if isinstance(src, EarthSourceInBcrs):
         out.append({"term": "gcrs_to_bcrs_lorentz_terms", "size_fractional": 1e-16,
                     "note": "the geocentric state is added to the geocentre's without the O(c^-2) "
@@ -349,7 +358,9 @@ def _signal_path_to_earth(src, span, t_s, ss, orientation, station=None) -> dict
     into the BCRS); emission at t - tau with |x_clock(t - tau) - x_rx(t)| = c (tau - Shapiro),
     solved by fixed-point iteration. Shapiro delay (2 GM_sun/c^3) ln((r1 + r2 + rho)/(r1 + r2 -
     rho)) (TN36 eq. 11.17, the Sun only; the Earth's own term, < 0.03 ns for lunar links, is left
-    out). Coordinate light times in TCB-compatible seconds; planning values, not a link model.
+    out). Coordinate light times in TDB-compatible seconds (DE421's units: distances/c; TDB
+    keeps TT's mean rate, so t - tau stays in TT seconds; a TCB light time would be longer by
+    L_B tau, 20 us at 1300 s); planning values, not a link model.
     """
     from .constants import C_M_PER_S
 
@@ -478,9 +489,10 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
         return np.vstack([nr.total] + terms + [nr.r_dot_v_m2_per_s] + extra)
 
     try:
+        breaks = src.panel_breaks_s(span) if hasattr(src, "panel_breaks_s") else None
         q = integrate(
             fun, 0.0, span.duration_s, initial_panel_s(src, inputs.nodes_scale),
-            tol_fractional=inputs.tol_fractional, max_nodes=inputs.max_nodes,
+            tol_fractional=inputs.tol_fractional, max_nodes=inputs.max_nodes, breakpoints_s=breaks,
         )
     except NodeBudgetExceeded as exc:
         raise PhysicsInputError(
@@ -629,7 +641,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             "tt_convention": TT_FAR_FROM_EARTH,
             "tides": "full potentials of the Sun, Moon and planets (system barycentres), DE421",
             "orbit": (bsrc.describe()),
-            "omitted_terms": _omitted_terms_bcrs(bsrc, grav),
+            "omitted_terms": _omitted_terms_bcrs(bsrc, grav, ref),
         })
         data["tt_convention"] = TT_FAR_FROM_EARTH
         data["position_term"] = {

@@ -106,6 +106,28 @@ class KeplerianOrbit(OrbitSource):
     def period_s(self) -> float:
         return 2.0 * math.pi / self.m_rate
 
+    ECCENTRIC_PANELS_FROM_E = 0.3
+    """Above this eccentricity the first panels are cut at equal steps of eccentric anomaly."""
+
+    def panel_breaks_s(self, span, per_orbit: int = 8):
+        """Panel edges at E = 2 pi k / per_orbit (TT s after the span start) for eccentric orbits.
+
+        Equal steps in eccentric anomaly are short near perigee, where the rate changes fast,
+        and long near apogee (t = (E - e sin E)/n, Kepler's equation), so the adaptive
+        refinement starts close to its answer. None for near-circular orbits.
+        """
+        if self.e < self.ECCENTRIC_PANELS_FROM_E:
+            return None
+        start_dt = -float(span.seconds_after_start(self._epoch))  # start - epoch, s
+        m_start = self.m0_rad + self.m_rate * start_dt
+        m_end = m_start + self.m_rate * span.duration_s
+        k0 = math.floor(m_start / (2 * math.pi)) * per_orbit
+        k1 = math.ceil(m_end / (2 * math.pi)) * per_orbit
+        ecc_anom = 2 * math.pi * np.arange(k0, k1 + 1) / per_orbit
+        mean_anom = ecc_anom - self.e * np.sin(ecc_anom)
+        t = (mean_anom - m_start) / self.m_rate
+        return t[(t > 0.0) & (t < span.duration_s)]
+
     def states(self, span, t_s, orientation) -> States:
         t_s = np.asarray(t_s, dtype=float)
         dt = t_s - float(span.seconds_after_start(self._epoch))  # seconds since epoch
