@@ -7,10 +7,18 @@ Rz(90 + alpha0) (Archinal et al. 2011, Celest. Mech. Dyn. Astr. 109:101,
 section 2; the same convention in the 2015 report, Archinal et al. 2018).
 
 Moon: IAU recommended model with the E1..E13 arguments (Archinal et al.
-2011, Table 2; values from memory). It approximates the lunar mean-Earth/polar
-axis frame to ~150 m on the surface, which moves a clock's Earth tidal
-potential by < 1e-17 in rate. Mars: Archinal et al. 2011 Table 1 secular
-model (from memory). d = days and T = Julian centuries of TDB from J2000.
+2011, Table 2). It approximates the lunar mean-Earth/polar axis frame to
+~150 m on the surface, which moves a clock's Earth tidal potential by < 1e-17
+in rate. Mars: Archinal et al. 2011 Table 1 secular model. Every coefficient
+here (Moon pole, prime meridian, the 13 periodic amplitudes of each and the
+E1..E13 phases and rates; Mars pole and W) was checked term by term against a
+public copy of NAIF's text PCK pck00010 (BODY301_*, BODY3_NUT_PREC_ANGLES in
+degrees per century = our per-day rates x 36525, BODY499_*), which carries
+the 2009 IAU report's values. The 2015 report (Archinal et al. 2018, NAIF's
+pck00011, whose E1..E13 are the same) keeps the Moon's model but replaces
+Mars's by one with periodic terms and a new W0; this module uses the 2009
+Mars model.
+d = days and T = Julian centuries of TDB from J2000.
 """
 
 from __future__ import annotations

@@ -17,8 +17,11 @@ position term v_E . (x - x_E)/c^2; the budget states this convention):
 References: TT/TAI/GPS (0), TCG (L_G/(1 - L_G)), TCB (-d/(1 + d)), TDB
 ((-L_B - d)/(1 + d), TN36 eq. 10.1), and ``lunar_surface``: an ideal clock on
 the Moon's mean equatorial sphere (radius 1737.4 km), with its rotation speed,
-the Moon's self-potential GM_M/R_M and the external potential at the Moon's
-centre (the first-order tidal part averages out over longitude).
+the Moon's self-potential GM_M/R_M (point-mass Moon: lunar J2 on the equator,
+3.2e-15, is left out and listed among the omitted terms) and the external
+potential at the Moon's centre. The Earth's tide does not average out over the
+equator: P2 averages to P2(0) P2(sin beta) ~ 1/4 there, GM_E R_M^2/(4 r^3) ~
+5 m^2/s^2 (~5e-17, also left out).
 """
 
 from __future__ import annotations

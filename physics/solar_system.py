@@ -3,7 +3,8 @@
 States come from the DE421 kernel inside skyfield-data through jplephem's
 Chebyshev segments (Folkner et al. 2009), in the BCRS with TDB as time
 argument. Lengths and times in DE421 are TDB-compatible; GM/r and v^2 are the
-same in TCB-compatible units (both scale by 1 - L_B), so the proper-time rate
+same in TCB-compatible units (numerator and denominator of each scale by
+1 - L_B, so the ratios do not change), so the proper-time rate
 dtau/dTCB = 1 - (v^2/2 + U)/c^2 can use them as they are.
 
 For a budget, the states are evaluated on a coarse grid (``GRID_STEP_S``) and
