@@ -8,7 +8,7 @@ from the file's time system to TT seconds after the first clock epoch.
 
 Whether the offsets still carry the relativistic periodic term -(2/c^2) r.v decides what
 is subtracted. IGS clock products (SP3 clock column, RINEX clock AS records) exclude it by
-convention and leave it to the user (Kouba 2004, GPS Solutions 8:170, section 2; the
+convention and leave it to the user (Kouba 2004, GPS Solutions 8:170, abstract; the
 docstring of physics/clock_residuals.py), so ``PERIODIC_TERM_IN_DATA_DEFAULT`` is False and
 nothing is subtracted unless the caller says the data are raw offsets that still carry it.
 Every result says which assumption it used.
@@ -35,11 +35,11 @@ from .formats.files import orbit_from_file
 from .formats.models import TEXT_ORBITS
 
 PERIODIC_TERM_IN_DATA_DEFAULT = False
-"""IGS convention: clock products exclude the periodic term (Kouba 2004, section 2)."""
+"""IGS convention: clock products exclude the periodic term (Kouba 2004, abstract)."""
 
 ASSUMPTION_IGS = (
     "IGS convention: the clock values are taken to exclude the relativistic periodic term "
-    "-(2/c^2) r.v, as IGS clock products do (Kouba 2004, section 2); nothing was subtracted, and "
+    "-(2/c^2) r.v, as IGS clock products do (Kouba 2004, abstract); nothing was subtracted, and "
     "the term's size is shown for comparison. Raw offsets that still carry it need "
     "--periodic-term-in-data."
 )

@@ -15,7 +15,9 @@ the frequency-stability table of physics.clock.stability_table.
 
 Conventions matter here. IGS clock products (SP3 clock column, RINEX clock
 AS records) follow the IGS convention of excluding the periodic term: the
-user applies -(2/c^2) r.v (Kouba 2004, GPS Solutions 8:170, section 2). For
+user applies -(2/c^2) r.v (Kouba 2004, GPS Solutions 8:170, abstract: the
+conventional periodic correction is a dot product of the satellite position and
+velocity, applied by the user). For
 such data pass ``periodic_term_in_data=False``: nothing is subtracted, and
 the size of the term is reported for comparison. Subtracting it from IGS
 products would inject a spurious periodic signal of that size. Raw offsets
