@@ -14,6 +14,7 @@ import io
 from typing import Any
 
 from physics.rate import TERM_NAMES
+from physics.rate_bcrs import BCRS_TERM_NAMES
 
 SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",
@@ -62,6 +63,13 @@ CLOCK_SUMMARY_FIELDS: tuple[str, ...] = (
 )
 """Also accepted by ``field=`` and listed in the summary when the request has a clock."""
 
+BCRS_SUMMARY_FIELDS: tuple[str, ...] = (
+    *(f"terms_fractional.{name}" for name in BCRS_TERM_NAMES if name != "velocity"),
+    "tt_convention",
+    "position_term.amplitude_ns",
+)
+"""Also accepted by ``field=`` and listed in the summary for barycentric (BCRS) budgets."""
+
 SERIES_COLUMNS = ("time_utc", "elapsed_s", "offset_ns", "periodic_ns", "eccentricity_term_ns")
 
 CLOCK_SERIES_COLUMNS = ("deterministic_ns", "sigma_ns", "bound_ns")
@@ -98,7 +106,7 @@ def format_value(value: Any) -> str:
 def summary_rows(budget: dict) -> list[tuple[str, Any]]:
     """(field, value) for every summary field present in the budget."""
     rows = []
-    for name in SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS:
+    for name in SUMMARY_FIELDS + BCRS_SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS:
         try:
             rows.append((name, lookup(budget, name)))
         except (KeyError, TypeError):

@@ -13,9 +13,10 @@ from typing import Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field
 
-from ..csv_format import CLOCK_SUMMARY_FIELDS, SUMMARY_FIELDS
+from ..csv_format import BCRS_SUMMARY_FIELDS, CLOCK_SUMMARY_FIELDS, SUMMARY_FIELDS
 
-SummaryField = Literal[SUMMARY_FIELDS + CLOCK_SUMMARY_FIELDS]  # type: ignore[valid-type]
+SummaryField = Literal[tuple(dict.fromkeys(SUMMARY_FIELDS + BCRS_SUMMARY_FIELDS  # type: ignore[valid-type]
+                                           + CLOCK_SUMMARY_FIELDS))]
 
 
 class BudgetQuery(BaseModel):
@@ -23,7 +24,10 @@ class BudgetQuery(BaseModel):
 
     model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
-    # Keplerian elements (GCRS, Earth-centred)
+    # Where the orbit or the surface clock is (default the Earth; others give a BCRS budget)
+    center: Literal["earth", "sun", "moon", "mars"] | None = Field(None, examples=["earth"])
+    reference_plane: Literal["icrf_equator", "ecliptic_j2000"] | None = None
+    # Keplerian elements
     semi_major_axis_km: float | None = Field(None, examples=[26561.4])
     eccentricity: float | None = Field(None, examples=[0.01])
     inclination_deg: float | None = Field(None, examples=[55.0])
@@ -42,7 +46,8 @@ class BudgetQuery(BaseModel):
     geoid_undulation_m: float | None = None
     orthometric_height_m: float | None = None
     # Reference, span, model, output
-    reference: Literal["TT", "TAI", "GPS", "TCG"] = Field("TT", examples=["GPS"])
+    reference: Literal["TT", "TAI", "GPS", "TCG", "TCB", "TDB", "lunar_surface"] = Field(
+        "TT", examples=["GPS"])
     start: AwareDatetime = Field(examples=["2027-03-01T00:00:00Z"])
     end: AwareDatetime | None = None
     duration_days: float | None = Field(None, examples=[1.0])
@@ -112,6 +117,10 @@ def to_request(q: BudgetQuery) -> dict[str, Any]:
             orbit[key] = value
     if kind == "keplerian" and "epoch" not in orbit:
         orbit["epoch"] = q.start
+    if q.center is not None:
+        orbit["center"] = q.center
+    if q.reference_plane is not None:
+        orbit["reference_plane"] = q.reference_plane
     body: dict[str, Any] = {"orbit": orbit}
     for name in _TOP:
         value = getattr(q, name)
@@ -130,6 +139,8 @@ _POINTER_TO_PARAM = {
     **{f"/gravity/{n}": n for n in _GRAVITY},
     **{f"/{n}": n for n in _TOP},
     "/clock/preset": "clock_preset",
+    "/orbit/center": "center",
+    "/orbit/reference_plane": "reference_plane",
 }
 
 

@@ -64,3 +64,19 @@ def test_geoid_on_the_moon_is_refused(client, problem_of):
     r = client.post("/v1/budgets", json=body)
     assert r.status_code == 422
     assert "Earth clocks only" in problem_of(r, 422)["detail"]
+
+
+def test_csv_query_takes_a_centre_and_barycentric_references(client):
+    # The spreadsheet route reaches the same barycentric budget as the JSON body (the lunar
+    # figure: Ashby & Patla 2024, ~56.02 us/day against TT).
+    body = _sample("lunar_beacon.json")
+    q = {"center": "moon", "latitude_deg": body["orbit"]["latitude_deg"],
+         "longitude_deg": body["orbit"]["longitude_deg"], "height_m": body["orbit"]["height_m"],
+         "start": body["start"], "duration_days": body["duration_days"]}
+    text = client.get("/v1/budgets.csv", params={**q, "field": "mean_rate_us_per_day"}).text
+    assert float(text) == client.post("/v1/budgets", json=body).json()["mean_rate_us_per_day"]
+    assert abs(float(text) - 56.02) < 0.05
+    moon_term = client.get("/v1/budgets.csv", params={**q, "field": "terms_fractional.moon"})
+    assert moon_term.status_code == 200 and float(moon_term.text) < 0.0  # GM_M/R_M slows the clock
+    tdb = client.get("/v1/budgets.csv", params={**q, "reference": "TDB", "field": "tt_convention"})
+    assert tdb.status_code == 200 and "geocentre" in tdb.text
