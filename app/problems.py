@@ -41,6 +41,7 @@ TYPE_MALFORMED_BODY = _TYPE_BASE + "malformed-body"
 TYPE_TOO_LARGE = _TYPE_BASE + "limit-exceeded"
 TYPE_NOT_READY = _TYPE_BASE + "not-ready"
 TYPE_INTERNAL = _TYPE_BASE + "internal-error"
+TYPE_BUSY = _TYPE_BASE + "busy"
 
 log = logging.getLogger("taubudget.problems")
 
@@ -49,10 +50,11 @@ class ProblemError(Exception):
     """An error the app raises on purpose; becomes a problem+json response."""
 
     def __init__(self, status: int, title: str, detail: str, type_: str = TYPE_INVALID_REQUEST,
-                 errors: Sequence[dict] | None = None, **extra: Any):
+                 errors: Sequence[dict] | None = None, headers: dict | None = None, **extra: Any):
         super().__init__(detail)
         self.status, self.title, self.detail, self.type = status, title, detail, type_
         self.errors = list(errors or [])
+        self.headers = headers
         self.extra = extra
 
     def to_dict(self, instance: str | None = None) -> dict:
@@ -180,7 +182,7 @@ def _instance(request: Request) -> str:
 
 
 async def handle_problem(request: Request, exc: ProblemError):
-    return problem_response(exc.to_dict(_instance(request)))
+    return problem_response(exc.to_dict(_instance(request)), headers=exc.headers)
 
 
 async def handle_physics(request: Request, exc: PhysicsInputError):

@@ -20,6 +20,8 @@ class Settings(BaseSettings):
     MAX_BATCH_NODES: int = 20_000_000
     MAX_BODY_BYTES: int = 5_000_000
     MAX_STABILITY_POINTS: int = 100_000  # ~3.5 s of EDF work per request at the limit
+    MAX_CONCURRENT_COMPUTATIONS: int = 2  # per worker process: budgets, plans, stability tables
+    COMPUTE_QUEUE_WAIT_SECONDS: float = 30.0  # then 503 with Retry-After
     MAX_NUMERICAL_REVOLUTIONS: int = 250  # DOP853 state-vector orbits: ~0.04 s per LEO revolution
     DEFAULT_HOST: str = "127.0.0.1"
     DEFAULT_PORT: int = 8000

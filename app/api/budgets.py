@@ -6,7 +6,6 @@ import logging
 from typing import Annotated, Any
 
 from fastapi import APIRouter, Query, Request
-from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse, PlainTextResponse, Response
 from pydantic import ValidationError
 
@@ -14,6 +13,7 @@ from physics.budget import CAUTION
 from physics.errors import PhysicsInputError
 
 from .. import csv_format
+from ..compute import ComputeDep
 from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_INTERNAL,
@@ -71,23 +71,23 @@ def _problem_kwargs(p: dict) -> dict:
                                EXAMPLE_HELIOCENTRIC_REQUEST),
     }),
 )
-async def create_budget(request: Request, settings: SettingsDep):
+async def create_budget(request: Request, settings: SettingsDep, compute: ComputeDep):
     """Compute the drift budget of one clock against one reference over one span."""
     if not uploads.is_multipart(request):
         req = _validate(parse_json(await request.body()))
-        return JSONResponse(await run_in_threadpool(budget_from_request, req, settings))
+        return JSONResponse(await compute(budget_from_request, req, settings))
     up = await uploads.read_upload(request, ("request",))
     document = uploads.json_document(up, "orbit")
     if document is not None:  # the request JSON itself, uploaded as a file
         req = _validate(document)
-        return JSONResponse(await run_in_threadpool(budget_from_request, req, settings))
+        return JSONResponse(await compute(budget_from_request, req, settings))
     body, parts = uploads.budget_body(up)
     try:
         req = BudgetRequest.model_validate(body)
     except ValidationError as exc:
         raise uploads.upload_validation_problem(exc, body, parts) from exc
     try:
-        result = await run_in_threadpool(budget_from_request, req, settings)
+        result = await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         raise uploads.upload_physics_problem(exc, parts) from exc
     return JSONResponse(result)
@@ -150,14 +150,14 @@ def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
         "two_satellites": ("Two navigation satellites sharing defaults", EXAMPLE_BATCH_REQUEST),
     }),
 )
-async def create_batch(request: Request, settings: SettingsDep):
+async def create_batch(request: Request, settings: SettingsDep, compute: ComputeDep):
     """Compute one budget per item; a bad item gets its own problem and the others still run."""
     if uploads.is_multipart(request):
         up = await uploads.read_upload(request, ("request", "defaults"))
         payload = uploads.json_document(up, "items")
         if payload is None:  # an orbit file: one item per object in it
             plan = await uploads.file_batch(up, settings)
-            return await _run_batch(plan.entries, plan.defaults, settings)
+            return await _run_batch(plan.entries, plan.defaults, settings, compute)
     else:
         payload = parse_json(await request.body())
     try:
@@ -173,10 +173,11 @@ async def create_batch(request: Request, settings: SettingsDep):
             TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"at most {settings.MAX_BATCH_ITEMS} items"}],
             limit_name="MAX_BATCH_ITEMS", limit=settings.MAX_BATCH_ITEMS,
         )
-    return await _run_batch([(item, None, None) for item in batch.items], batch.defaults, settings)
+    return await _run_batch([(item, None, None) for item in batch.items], batch.defaults, settings, compute)
 
 
-async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings) -> JSONResponse:
+async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings,
+                     compute) -> JSONResponse:
     """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
     where orbit and source are given for the objects of an uploaded file (parsed once)."""
     results: list[dict] = []
@@ -210,7 +211,7 @@ async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settin
         )
     for i, req, item, source in planned:
         try:
-            results[i]["budget"] = await run_in_threadpool(budget_from_request, req, settings, source)
+            results[i]["budget"] = await compute(budget_from_request, req, settings, source)
         except PhysicsInputError as exc:
             results[i]["problem"] = _item_physics_problem(i, exc, item, defaults)
             results[i]["status"] = 422
@@ -252,7 +253,7 @@ def _query_problem(errors: list[dict]) -> ProblemError:
     response_class=Response,
     responses=doc.csv_responses((400, 422)),
 )
-async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep):
+async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep, compute: ComputeDep):
     """The budget of the request spelled as query parameters: CSV, or with field= one number."""
     try:
         body = to_request(q)
@@ -265,7 +266,7 @@ async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep):
     except ValidationError as exc:
         raise _query_problem(validation_errors(exc, body)) from exc
     try:
-        result = await run_in_threadpool(budget_from_request, req, settings)
+        result = await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         p = physics_problem(exc)
         p["errors"] = with_parameters(p["errors"])

@@ -5,11 +5,11 @@ from __future__ import annotations
 from typing import Annotated, Literal
 
 from fastapi import APIRouter, Query, Request
-from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse
 from pydantic import ValidationError
 
 from ..column_text import ColumnError, TooManyValues, parse_column
+from ..compute import ComputeDep
 from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_MALFORMED_BODY,
@@ -107,6 +107,7 @@ def _from_text(text: str, query: dict, max_values: int) -> StabilityRequest:
 async def clock_stability(
     request: Request,
     settings: SettingsDep,
+    compute: ComputeDep,
     data_type: Annotated[Literal["phase", "frequency"] | None, Query(
         description="Upload only: phase (s) or fractional frequency")] = None,
     sample_interval_s: Annotated[float | None, Query(
@@ -136,6 +137,6 @@ async def clock_stability(
             req = StabilityRequest.model_validate(body)
         except ValidationError as exc:
             raise _invalid(validation_errors(exc, body)) from exc
-    result = await run_in_threadpool(stability_from_data, req.data, req.data_type, req.sample_interval_s,
+    result = await compute(stability_from_data, req.data, req.data_type, req.sample_interval_s,
                                      req.confidence, settings)
     return JSONResponse(result)

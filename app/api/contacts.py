@@ -7,10 +7,10 @@ from pathlib import Path
 from typing import Any
 
 from fastapi import APIRouter
-from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse, PlainTextResponse
 from pydantic import ValidationError
 
+from ..compute import ComputeDep
 from ..contacts import ContactPlanRequest, contact_plan_from_request, passes_csv
 from ..deps import JsonBody, SettingsDep
 from ..problems import ProblemError, validation_errors, validation_problem
@@ -52,10 +52,10 @@ def _validate(body: Any) -> ContactPlanRequest:
     responses=doc.responses(200, "ContactPlanResponse", "The contact plan", (400, 413, 422)),
     openapi_extra=doc.json_body("ContactPlanRequest", _EXAMPLES),
 )
-async def create_contact_plan(body: JsonBody, settings: SettingsDep):
+async def create_contact_plan(body: JsonBody, settings: SettingsDep, compute: ComputeDep):
     """Find the passes over the stations, simulate syncs by the policy and check the time-error budget."""
     req = _validate(body)
-    return JSONResponse(await run_in_threadpool(contact_plan_from_request, req, settings))
+    return JSONResponse(await compute(contact_plan_from_request, req, settings))
 
 
 @router.post(
@@ -66,8 +66,8 @@ async def create_contact_plan(body: JsonBody, settings: SettingsDep):
                **doc.problem_responses((400, 413, 422))},
     openapi_extra=doc.json_body("ContactPlanRequest", _EXAMPLES),
 )
-async def contact_plan_csv(body: JsonBody, settings: SettingsDep):
+async def contact_plan_csv(body: JsonBody, settings: SettingsDep, compute: ComputeDep):
     """The same request as /v1/contact-plans; one CSV row per pass."""
     req = _validate(body)
-    plan = await run_in_threadpool(contact_plan_from_request, req, settings)
+    plan = await compute(contact_plan_from_request, req, settings)
     return PlainTextResponse(passes_csv(plan), media_type="text/csv")
