@@ -253,8 +253,16 @@ def _query_problem(errors: list[dict]) -> ProblemError:
     response_class=Response,
     responses=doc.csv_responses((400, 422)),
 )
-async def budget_csv(q: Annotated[BudgetQuery, Query()], settings: SettingsDep, compute: ComputeDep):
+async def budget_csv(request: Request, q: Annotated[BudgetQuery, Query()], settings: SettingsDep,
+                     compute: ComputeDep):
     """The budget of the request spelled as query parameters: CSV, or with field= one number."""
+    names = [k for k, _ in request.query_params.multi_items()]
+    repeated = sorted({n for n in names if names.count(n) > 1})
+    if repeated:
+        raise ProblemError(422, "Invalid request", "The query repeats "
+                           f"{', '.join(repeated)}; give each parameter once.",
+                           errors=[{"pointer": f"/{n}", "parameter": n, "detail": "given more than once"}
+                                   for n in repeated])
     try:
         body = to_request(q)
     except QueryConflict as exc:

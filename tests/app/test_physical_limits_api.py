@@ -106,3 +106,11 @@ def test_non_finite_query_values_are_refused(client, problem_of):
 def test_deeply_nested_body_is_a_400(client, problem_of):
     problem = problem_of(client.post("/v1/budgets", content=b"[" * 100_000 + b"]" * 100_000), 400)
     assert "too deeply" in problem["detail"]
+
+
+def test_repeated_query_parameter_is_refused(client, problem_of):
+    url = ("/v1/budgets.csv?semi_major_axis_km=26561.4&semi_major_axis_km=7000&eccentricity=0"
+           "&inclination_deg=55&start=2027-03-01T00:00:00Z&duration_days=1")
+    problem = problem_of(client.get(url), 422)
+    assert problem["errors"][0]["parameter"] == "semi_major_axis_km"
+    assert "more than once" in problem["errors"][0]["detail"]
