@@ -179,14 +179,23 @@ def cmd_stability(args) -> int:
     try:
         result = stability_from_data(column.values, data_type, tau0, args.confidence)
     except PhysicsInputError as exc:
-        print(f"invalid input: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
-        return 2
+        return _physics_failure(exc, "invalid input")
     if args.json:
-        json.dump(result, sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        _print_json(result)
     else:
         print(render_stability(result))
     return 0
+
+
+def _print_json(obj) -> None:
+    json.dump(obj, sys.stdout, indent=2)
+    sys.stdout.write("\n")
+
+
+def _physics_failure(exc: PhysicsInputError, what: str) -> int:
+    """Print a physics input error naming the field, value and reason; the exit code for bad input."""
+    print(f"{what}: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
+    return 2
 
 
 def _read_text(path: str) -> str:
@@ -234,11 +243,9 @@ def cmd_budget(args) -> int:
     try:
         result = budget_from_request(req)
     except PhysicsInputError as exc:
-        print(f"invalid request: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
-        return 2
+        return _physics_failure(exc, "invalid request")
     if args.json:
-        json.dump(result, sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        _print_json(result)
     else:
         print(render_table(result))
     return 0
@@ -277,11 +284,9 @@ def cmd_contacts(args) -> int:
     try:
         plan = contact_plan_from_request(req)
     except PhysicsInputError as exc:
-        print(f"invalid request: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
-        return 2
+        return _physics_failure(exc, "invalid request")
     if args.json:
-        json.dump(plan, sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        _print_json(plan)
     elif args.csv:
         sys.stdout.write(passes_csv(plan))
     else:
@@ -339,8 +344,7 @@ def cmd_clock_residuals(args) -> int:
         print(f"invalid input: {where}: {exc.reason}", file=sys.stderr)
         return 2
     if args.json:
-        json.dump(result, sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        _print_json(result)
     else:
         print(render_clock_residuals(result))
     return 0

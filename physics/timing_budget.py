@@ -15,14 +15,13 @@ Planning estimates of a Gaussian model (see physics.clock.time_error for its lim
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .clock import ClockModel
+from .clock.time_error import first_crossing_s
 
 __all__ = ["CombinedTimeError", "combined_time_error", "combined_max_free_running_s"]
 
@@ -108,14 +107,4 @@ def combined_max_free_running_s(
         return combined_time_error(residual_s, clock, t, k_sigma).bound_s - budget_s
 
     grid = np.concatenate(([0.0], np.geomspace(SCAN_FIRST_S, t_max_s, int(n_scan))))
-    values = excess(grid)
-    over = np.flatnonzero(values >= 0.0)
-    if over.size == 0:
-        return math.inf
-    i = int(over[0])
-    if i == 0:
-        return 0.0
-    return float(
-        brentq(lambda s: float(excess(s)[0]), float(grid[i - 1]), float(grid[i]),
-               xtol=1e-9, rtol=1e-12)
-    )
+    return first_crossing_s(excess, grid, None, xtol=1e-9, rtol=1e-12)

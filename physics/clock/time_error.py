@@ -245,16 +245,29 @@ def max_free_running_s(
     if abs(initial_time_offset_s) >= budget_s:
         return 0.0
     grid = np.geomspace(t_min_s, t_max_s, int(n_scan))
-    values = excess(grid)
-    over = np.flatnonzero(values >= 0.0)
+    # Without a residual series the envelope is known down to t = 0 (where it is below budget).
+    return first_crossing_s(excess, grid, None if residual_t_s is not None else 0.0,
+                            xtol=1e-12, rtol=1e-9)
+
+
+def first_crossing_s(excess, grid_s: np.ndarray, before_grid_s: float | None,
+                     xtol: float, rtol: float) -> float:
+    """First time (s) where the vectorised ``excess(t)`` reaches 0, or inf if it never does.
+
+    ``excess`` is evaluated on the scan ``grid_s`` at once; the first grid point at or above
+    zero is bracketed with its predecessor and refined by scipy.optimize.brentq. If the
+    first grid point is already over, it is bracketed from ``before_grid_s``, or returned as
+    is when that is None. A crossing narrower than the grid spacing could be missed.
+    """
+    over = np.flatnonzero(excess(grid_s) >= 0.0)
     if over.size == 0:
         return math.inf
     i = int(over[0])
     if i == 0:
-        if residual_t_s is not None:
-            return float(grid[0])
-        lo = 0.0
+        if before_grid_s is None:
+            return float(grid_s[0])
+        lo = before_grid_s
     else:
-        lo = float(grid[i - 1])
-    hi = float(grid[i])
-    return float(brentq(lambda s: float(excess(np.array([s]))[0]), lo, hi, xtol=1e-12, rtol=1e-9))
+        lo = float(grid_s[i - 1])
+    return float(brentq(lambda s: float(excess(np.array([s]))[0]), lo, float(grid_s[i]),
+                        xtol=xtol, rtol=rtol))
