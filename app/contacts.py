@@ -36,6 +36,7 @@ from physics.contacts import (
 from physics.environment import environment_for
 from physics.errors import PhysicsInputError
 
+from .model_base import StrictModel
 from .schemas import BudgetRequest, ClockIn
 from .service import budget_inputs, clock_model
 from .settings import Settings, get_settings
@@ -44,8 +45,7 @@ MAX_STATIONS = 50
 MAX_PASSES = 5000
 
 
-class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+_Strict = StrictModel
 
 
 class _Open(BaseModel):

@@ -20,10 +20,9 @@ from .formats.models import (
     StateVectorOrbitIn,
     TleFileOrbitIn,
 )
+from .model_base import StrictModel, ZonalGravityModel
 
-
-class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+_Strict = StrictModel
 
 
 class KeplerianOrbitIn(_Strict):
@@ -73,16 +72,8 @@ Orbit = Annotated[KeplerianOrbitIn | TleOrbitIn | SurfaceClockIn | OmmOrbitIn | 
                   | Sp3OrbitIn | TleFileOrbitIn | StateVectorOrbitIn, Field(discriminator="type")]
 
 
-class GravityIn(_Strict):
-    earth_zonal_degree: int = Field(4, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
-    sun: bool = True
-    moon: bool = True
-
-    @model_validator(mode="after")
-    def _no_degree_one(self):
-        if self.earth_zonal_degree == 1:
-            raise ValueError("earth_zonal_degree 1 has no meaning in a geocentric field; use 0 or 2..6")
-        return self
+class GravityIn(ZonalGravityModel):
+    """Terms of the clock's rate (default zonal degree 4)."""
 
 
 class HAlphaIn(_Strict):

@@ -20,27 +20,18 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
+from pydantic import AwareDatetime, Field
 
+from ..model_base import StrictModel, ZonalGravityModel
 from .common import MAX_TEXT_CHARS
 
-
-class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+_Strict = StrictModel
 
 
-class ForceModelIn(_Strict):
+class ForceModelIn(ZonalGravityModel):
     """Forces of the numerical propagation (not of the clock rate)."""
 
     earth_zonal_degree: int = Field(6, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
-    sun: bool = True
-    moon: bool = True
-
-    @model_validator(mode="after")
-    def _no_degree_one(self):
-        if self.earth_zonal_degree == 1:
-            raise ValueError("earth_zonal_degree 1 has no meaning in a geocentric field; use 0 or 2..6")
-        return self
 
 
 _TEXT = Field(min_length=1, max_length=MAX_TEXT_CHARS * 2,
