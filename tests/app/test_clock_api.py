@@ -13,20 +13,17 @@ import math
 
 import pytest
 from fastapi.testclient import TestClient
+from support.nist_sp1065 import NBS9_Y
+from support.nist_sp1065 import TABLE_30 as SP1065_TABLE_30
 
 from app.main import create_app
 from app.settings import Settings
 
-NBS_9 = [892, 809, 823, 798, 671, 644, 883, 903, 677]
+NBS_9 = NBS9_Y
 
-# (row key, value at tau = 1, value at tau = 2), SP 1065 Table 30.
-TABLE_30 = [
-    ("adev", 91.22945, 115.8082),
-    ("oadev", 91.22945, 85.95287),
-    ("mdev", 91.22945, 74.78849),
-    ("tdev_s", 52.67135, 86.35831),
-    ("hdev", 70.80607, 116.7980),
-]
+# (row key, value at tau = 1, value at tau = 2), SP 1065 Table 30 (TDEV's row key carries "_s").
+TABLE_30 = [("tdev_s" if name == "tdev" else name, at_1, at_2)
+            for name, at_1, at_2 in SP1065_TABLE_30 if name != "ohdev"]
 
 
 def _unit_of_7th_digit(value: float) -> float:

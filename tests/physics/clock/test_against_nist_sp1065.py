@@ -22,19 +22,10 @@ import math
 import numpy as np
 import pytest
 
+# NBS 9-point data and SP 1065 Table 30 / Riley Table II values (sources: module docstring).
+from support.nist_sp1065 import NBS9_Y, TABLE_30
+
 from physics.clock import stability as st
-
-NBS9_Y = [892, 809, 823, 798, 671, 644, 883, 903, 677]
-
-# (statistic, value at tau=1, value at tau=2), SP 1065 Table 30 / Riley Table II.
-TABLE_30 = [
-    ("adev", 91.22945, 115.8082),
-    ("oadev", 91.22945, 85.95287),
-    ("mdev", 91.22945, 74.78849),
-    ("tdev", 52.67135, 86.35831),
-    ("hdev", 70.80607, 116.7980),
-    ("ohdev", 70.80607, 85.61487),
-]
 
 # (statistic, tau = 1, 10, 100), Riley Table III, the SP 1065 Table 31 data set.
 TABLE_31 = [
