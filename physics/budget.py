@@ -366,23 +366,21 @@ def _signal_path_to_earth(src, span, t_s, ss, orientation, station=None) -> dict
 
     def one_way(x_rx):
         xs_rx = ss.position_m("sun", t_s)
+
+        def from_emission_at(t_tx):
+            x_tx = src.states_bcrs(span, t_tx, ss, orientation).r_m
+            rho = np.linalg.norm(x_tx - x_rx, axis=1)
+            r1 = np.linalg.norm(x_tx - ss.position_m("sun", t_tx), axis=1)
+            r2 = np.linalg.norm(x_rx - xs_rx, axis=1)
+            shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
+            return rho / C_M_PER_S + shapiro, shapiro
+
         tau = np.linalg.norm(src.states_bcrs(span, t_s, ss, orientation).r_m - x_rx, axis=1) / C_M_PER_S
         iterated = bool(np.all(tau < MAX_ITERATED_LIGHT_TIME_S))
-        shapiro = np.zeros_like(tau)
-        for _ in range(LIGHT_TIME_ITERATIONS if iterated else 0):
-            x_tx = src.states_bcrs(span, t_s - tau, ss, orientation).r_m
-            rho = np.linalg.norm(x_tx - x_rx, axis=1)
-            r1 = np.linalg.norm(x_tx - ss.position_m("sun", t_s - tau), axis=1)
-            r2 = np.linalg.norm(x_rx - xs_rx, axis=1)
-            shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
-            tau = rho / C_M_PER_S + shapiro
         if not iterated:
-            x_tx = src.states_bcrs(span, t_s, ss, orientation).r_m
-            rho = np.linalg.norm(x_tx - x_rx, axis=1)
-            r1 = np.linalg.norm(x_tx - xs_rx, axis=1)
-            r2 = np.linalg.norm(x_rx - xs_rx, axis=1)
-            shapiro = 2 * GM_SUN_M3_PER_S2 / C_M_PER_S**3 * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
-            tau = rho / C_M_PER_S + shapiro
+            tau, shapiro = from_emission_at(t_s)
+        for _ in range(LIGHT_TIME_ITERATIONS if iterated else 0):
+            tau, shapiro = from_emission_at(t_s - tau)
         return tau, shapiro, iterated
 
     xe = ss.position_m("earth", t_s)

@@ -72,10 +72,6 @@ class EarthOrientation:
         p = self._m(t_s).reshape(-1, 3, 3)[:, 2, :]
         return p / np.linalg.norm(p, axis=1)[:, None]
 
-    def gast_rad(self, t_s: np.ndarray) -> np.ndarray:
-        """Greenwich apparent sidereal angle (unwrapped), rad."""
-        return self._gast(t_s)
-
     def itrs_to_gcrs(self, r_itrs_m: np.ndarray, t_s: np.ndarray):
         """Position and velocity in the GCRS of points fixed in the ITRS.
 

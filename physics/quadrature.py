@@ -82,12 +82,16 @@ class PanelIntegral:
     def error_estimate_s(self) -> float:
         return float(self.panel_error_s.sum())
 
-    def cumulative_at(self, t_s: np.ndarray, rows=None) -> np.ndarray:
-        """(k, M) integral of every row (or of ``rows``) from the span start to each time in ``t_s``."""
+    def _locate(self, t_s):
+        """Panel index of each time and its position u in [-1, 1] inside the panel."""
         t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
         p = np.clip(np.searchsorted(self.edges_s, t_s, side="right") - 1, 0, len(self.edges_s) - 2)
         left, right = self.edges_s[p], self.edges_s[p + 1]
-        u = np.clip(2.0 * (t_s - left) / (right - left) - 1.0, -1.0, 1.0)
+        return p, np.clip(2.0 * (t_s - left) / (right - left) - 1.0, -1.0, 1.0)
+
+    def cumulative_at(self, t_s: np.ndarray, rows=None) -> np.ndarray:
+        """(k, M) integral of every row (or of ``rows``) from the span start to each time in ``t_s``."""
+        p, u = self._locate(t_s)
         vander = leg.legvander(u, NODES_PER_PANEL)  # (M, n+1)
         rows = slice(None) if rows is None else np.asarray(rows)
         inside = np.einsum("mj,kmj->km", vander, self.antideriv[rows][:, p, :])
@@ -95,23 +99,16 @@ class PanelIntegral:
 
     def values_at(self, t_s: np.ndarray, rows=None) -> np.ndarray:
         """(k, M) the integrand rows' (or ``rows``') Legendre interpolants at ``t_s``."""
-        t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
-        p = np.clip(np.searchsorted(self.edges_s, t_s, side="right") - 1, 0, len(self.edges_s) - 2)
-        left, right = self.edges_s[p], self.edges_s[p + 1]
-        u = np.clip(2.0 * (t_s - left) / (right - left) - 1.0, -1.0, 1.0)
+        p, u = self._locate(t_s)
         vander = leg.legvander(u, NODES_PER_PANEL - 1)
         rows = slice(None) if rows is None else np.asarray(rows)
         return np.einsum("mj,kmj->km", vander, self.coefficients[rows][:, p, :])
-
-    @staticmethod
-    def _fine_vander(points_per_panel: int, degree: int) -> np.ndarray:
-        return _fine_vander(points_per_panel, degree)
 
     def cumulative_on_fine_grid(self, points_per_panel: int, rows=None) -> np.ndarray:
         """``cumulative_at(fine_grid_s(points_per_panel))`` without per-point panel lookups."""
         rows = slice(None) if rows is None else np.asarray(rows)
         anti, edge = self.antideriv[rows], self.edge_cumulative[rows]
-        vander = self._fine_vander(points_per_panel, NODES_PER_PANEL)
+        vander = _fine_vander(points_per_panel, NODES_PER_PANEL)
         inside = np.einsum("kpj,mj->kpm", anti, vander) + edge[:, :-1, None]
         return np.concatenate([inside.reshape(inside.shape[0], -1), edge[:, -1:]], axis=1)
 
@@ -119,7 +116,7 @@ class PanelIntegral:
         """``values_at(fine_grid_s(points_per_panel))`` without per-point panel lookups."""
         rows = slice(None) if rows is None else np.asarray(rows)
         coef = self.coefficients[rows]
-        vander = self._fine_vander(points_per_panel, NODES_PER_PANEL - 1)
+        vander = _fine_vander(points_per_panel, NODES_PER_PANEL - 1)
         inside = np.einsum("kpj,mj->kpm", coef, vander).reshape(coef.shape[0], -1)
         last = leg.legval(1.0, np.moveaxis(coef[:, -1, :], 1, 0))  # right edge of the last panel
         return np.concatenate([inside, np.atleast_1d(last).reshape(-1, 1)], axis=1)

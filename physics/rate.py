@@ -134,11 +134,3 @@ def integrand_terms(source, reference, t_s, gravity: GravityModel, env) -> NodeR
         y_ref = ref.total + TCG_RATE_AGAINST_TT
         clock.terms["reference_clock"] = -y_ref
     return clock
-
-
-def reference_rate_vs_tt(reference, t_s, gravity: GravityModel, env) -> np.ndarray:
-    """y_ref = d(reference)/dTT - 1 at ``t_s``, for converting to per-reference-second rates."""
-    if isinstance(reference, str):
-        return np.full(len(t_s), 0.0 if reference in TT_RATE_REFERENCES else TCG_RATE_AGAINST_TT)
-    ref = clock_terms_vs_tt(reference, t_s, gravity, env)
-    return ref.total + TCG_RATE_AGAINST_TT
