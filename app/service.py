@@ -148,11 +148,14 @@ def _link_station(req: BudgetRequest):
 def budget_from_request(req: BudgetRequest, settings: Settings | None = None, source=None) -> dict:
     """Compute the budget JSON for one request (``source``: see ``budget_inputs``)."""
     inputs = budget_inputs(req, settings, source)
-    if req.clock is not None:
-        clock_model(req.clock)  # refuse a bad clock block before the integration runs
-    elif req.monte_carlo_runs is not None:
+    # Refuse an unusable clock block before the integration runs, and build its model once.
+    model = clock_model(req.clock) if req.clock is not None else None
+    if model is None and req.monte_carlo_runs is not None:
         raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
                                 "a Monte Carlo exceedance needs a 'clock' block to simulate")
+    if model is None and req.time_error_budget_ns is not None:
+        raise PhysicsInputError("time_error_budget_ns", req.time_error_budget_ns,
+                                "a time-error budget needs a 'clock' block to compare against")
     if req.monte_carlo_runs is not None and req.time_error_budget_ns is None:
         raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
                                 "a Monte Carlo exceedance needs time_error_budget_ns")
@@ -162,11 +165,8 @@ def budget_from_request(req: BudgetRequest, settings: Settings | None = None, so
     out["start_utc"] = inputs.span.utc_iso(0.0)[0]
     out["end_utc"] = inputs.span.utc_iso(inputs.span.duration_s)[0]
     out["span_s"] = inputs.span.duration_s
-    if req.clock is not None:
-        out["clock_error"] = clock_error(req, budget, inputs.span)
-    elif req.time_error_budget_ns is not None:
-        raise PhysicsInputError("time_error_budget_ns", req.time_error_budget_ns,
-                                "a time-error budget needs a 'clock' block to compare against")
+    if model is not None:
+        out["clock_error"] = clock_error(req, budget, inputs.span, model)
     return out
 
 
@@ -291,7 +291,7 @@ def _model_out(c: ClockIn, model) -> dict:
     }
 
 
-def clock_error(req: BudgetRequest, budget, span: Span) -> dict:
+def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
     """The ``clock_error`` block: relativistic residual plus the oscillator, after a sync at t = 0."""
     import math
 
@@ -299,7 +299,7 @@ def clock_error(req: BudgetRequest, budget, span: Span) -> dict:
 
     from physics.timing_budget import combined_max_free_running_s, combined_time_error
 
-    model = clock_model(req.clock)
+    model = clock_model(req.clock) if model is None else model
     if req.apply_eccentricity_correction:
         residual, residual_name = budget.after_correction_s, "after_correction"
     else:
@@ -356,9 +356,6 @@ def _exceedance(req: BudgetRequest, model, residual, t_end: float) -> dict:
 
     from physics.clock import exceedance_probability
 
-    if req.time_error_budget_ns is None:
-        raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
-                                "a Monte Carlo exceedance needs time_error_budget_ns")
     steps = max(16, min(4096, MONTE_CARLO_MAX_SAMPLES // req.monte_carlo_runs))
     step_s = t_end / steps
     grid = np.arange(steps + 1) * step_s
