@@ -15,7 +15,7 @@ import sys
 
 from pydantic import ValidationError
 
-from physics.errors import PhysicsInputError
+from taubudget.physics.errors import PhysicsInputError
 
 
 def _load_json(path: str):
@@ -353,7 +353,7 @@ def cmd_clock_residuals(args) -> int:
 def cmd_serve(args) -> int:
     import uvicorn
 
-    uvicorn.run("app.main:app", host=args.host, port=args.port, workers=args.workers,
+    uvicorn.run("taubudget.app.main:app", host=args.host, port=args.port, workers=args.workers,
                 log_level=args.log_level)
     return 0
 

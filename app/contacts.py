@@ -17,9 +17,9 @@ from typing import Literal
 import numpy as np
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
-from physics.budget import CAUTION, compute_budget
-from physics.clock import ClockModel
-from physics.contacts import (
+from taubudget.physics.budget import CAUTION, compute_budget
+from taubudget.physics.clock import ClockModel
+from taubudget.physics.contacts import (
     GroundStation,
     SyncPolicy,
     clock_error_model,
@@ -33,8 +33,8 @@ from physics.contacts import (
     simulate_syncs,
     simulation_grid,
 )
-from physics.environment import environment_for
-from physics.errors import PhysicsInputError
+from taubudget.physics.environment import environment_for
+from taubudget.physics.errors import PhysicsInputError
 
 from .model_base import StrictModel
 from .schemas import BudgetRequest, ClockIn

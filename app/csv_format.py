@@ -13,8 +13,8 @@ import csv
 import io
 from typing import Any
 
-from physics.rate import TERM_NAMES
-from physics.rate_bcrs import BCRS_TERM_NAMES
+from taubudget.physics.rate import TERM_NAMES
+from taubudget.physics.rate_bcrs import BCRS_TERM_NAMES
 
 SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",

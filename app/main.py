@@ -15,8 +15,8 @@ from fastapi.concurrency import run_in_threadpool
 from fastapi.openapi.utils import get_openapi
 from pydantic.json_schema import models_json_schema
 
-from physics.budget import CAUTION
-from physics.ephemeris import ephemeris, timescale
+from taubudget.physics.budget import CAUTION
+from taubudget.physics.ephemeris import ephemeris, timescale
 
 from . import contacts as contact_models
 from . import problems, schemas

@@ -25,10 +25,10 @@ import re
 import numpy as np
 from pydantic import ValidationError
 
-from physics.clock_residuals import clock_residuals
-from physics.environment import environment_for
-from physics.errors import PhysicsInputError
-from physics.span import Span
+from taubudget.physics.clock_residuals import clock_residuals
+from taubudget.physics.environment import environment_for
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.span import Span
 
 from .formats import FormatError, build_format_source
 from .formats.files import orbit_from_file

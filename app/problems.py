@@ -30,7 +30,7 @@ from fastapi.responses import JSONResponse
 from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from physics.errors import PhysicsInputError
+from taubudget.physics.errors import PhysicsInputError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 

@@ -10,7 +10,7 @@ from typing import Annotated, Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
 
-from physics.clock import PRESETS as _CLOCK_PRESETS
+from taubudget.physics.clock import PRESETS as _CLOCK_PRESETS
 
 from .formats.models import (
     OemOrbitIn,

@@ -6,14 +6,14 @@ Physics input errors (``PhysicsInputError``) pass through; callers map them.
 
 from __future__ import annotations
 
-from physics import budget as budget_mod
-from physics.constants import SECONDS_PER_DAY
-from physics.ephemeris import timescale
-from physics.errors import PhysicsInputError
-from physics.orbits import KeplerianOrbit, SurfaceClock, TleOrbit
-from physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics import budget as budget_mod
+from taubudget.physics.constants import SECONDS_PER_DAY
+from taubudget.physics.ephemeris import timescale
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import KeplerianOrbit, SurfaceClock, TleOrbit
+from taubudget.physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 from .formats import FORMAT_ORBITS, build_format_source
 from .schemas import BudgetRequest, ClockIn, KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
@@ -121,7 +121,7 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
 
 def _check_numerical_cost(source, span: Span, settings: Settings):
     """Refuse up front a numerical propagation longer than MAX_NUMERICAL_REVOLUTIONS orbits."""
-    from physics.orbits import NumericalOrbit
+    from taubudget.physics.orbits import NumericalOrbit
 
     if not isinstance(source, NumericalOrbit):
         return
@@ -201,8 +201,8 @@ def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=
     """
     import math
 
-    from physics.budget import initial_panel_s
-    from physics.quadrature import NODES_PER_PANEL
+    from taubudget.physics.budget import initial_panel_s
+    from taubudget.physics.quadrature import NODES_PER_PANEL
 
     settings = settings or get_settings()
     source = build_source(req.orbit) if source is None else source
@@ -224,7 +224,7 @@ CLOCK_NOTE = (
 
 def clock_model(c: ClockIn):
     """A physics.clock.ClockModel from the request's clock block; PhysicsInputError if unusable."""
-    from physics.clock import NOISE_NAMES, ClockModel
+    from taubudget.physics.clock import NOISE_NAMES, ClockModel
 
     given = [n for n in ("preset", "h_alpha", "adev_points") if getattr(c, n) is not None]
     if len(given) != 1:
@@ -267,7 +267,7 @@ def clock_model(c: ClockIn):
 
 
 def _model_out(c: ClockIn, model) -> dict:
-    from physics.clock import NOISE_NAMES, PRESETS
+    from taubudget.physics.clock import NOISE_NAMES, PRESETS
 
     if c.preset is not None:
         source, label = "preset", f"{PRESET_LABEL}: {PRESETS[c.preset].description}"
@@ -297,7 +297,7 @@ def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
 
     import numpy as np
 
-    from physics.timing_budget import combined_max_free_running_s, combined_time_error
+    from taubudget.physics.timing_budget import combined_max_free_running_s, combined_time_error
 
     model = clock_model(req.clock) if model is None else model
     if req.apply_eccentricity_correction:
@@ -354,7 +354,7 @@ def _exceedance(req: BudgetRequest, model, residual, t_end: float) -> dict:
     """Monte Carlo probability that |deterministic + noise| passes the budget within the span."""
     import numpy as np
 
-    from physics.clock import exceedance_probability
+    from taubudget.physics.clock import exceedance_probability
 
     steps = max(16, min(4096, MONTE_CARLO_MAX_SAMPLES // req.monte_carlo_runs))
     step_s = t_end / steps
@@ -397,7 +397,7 @@ def stability_from_data(data, data_type: str, sample_interval_s: float, confiden
 
     import numpy as np
 
-    from physics.clock import stability_table
+    from taubudget.physics.clock import stability_table
 
     settings = settings or get_settings()
     n = len(data)

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from physics.clock import simulate_fractional_frequency
+from taubudget.physics.clock import simulate_fractional_frequency
 
 SEED = 20270301
 SAMPLE_INTERVAL_S = 10.0

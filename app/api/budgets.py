@@ -9,8 +9,8 @@ from fastapi import APIRouter, Query, Request
 from fastapi.responses import JSONResponse, PlainTextResponse, Response
 from pydantic import ValidationError
 
-from physics.budget import CAUTION
-from physics.errors import PhysicsInputError
+from taubudget.physics.budget import CAUTION
+from taubudget.physics.errors import PhysicsInputError
 
 from .. import csv_format
 from ..compute import ComputeDep

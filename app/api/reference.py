@@ -12,10 +12,10 @@ import re
 from fastapi import APIRouter
 from fastapi.responses import JSONResponse
 
-import physics.constants as constants_mod
-from physics.budget import CAUTION
-from physics.ephemeris import versions
-from physics.rate import TERM_NAMES
+import taubudget.physics.constants as constants_mod
+from taubudget.physics.budget import CAUTION
+from taubudget.physics.ephemeris import versions
+from taubudget.physics.rate import TERM_NAMES
 
 from ..deps import SettingsDep
 from . import openapi_doc as doc

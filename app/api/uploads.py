@@ -31,7 +31,7 @@ from fastapi.concurrency import run_in_threadpool
 from pydantic import ValidationError
 from starlette.datastructures import UploadFile
 
-from physics.errors import PhysicsInputError
+from taubudget.physics.errors import PhysicsInputError
 
 from ..deps import parse_json
 from ..formats import FormatError, format_sources

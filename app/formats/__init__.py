@@ -11,8 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics.ephemeris import timescale
-from physics.errors import PhysicsInputError
+from taubudget.physics.ephemeris import timescale
+from taubudget.physics.errors import PhysicsInputError
 
 from .common import FormatError
 from .models import (
@@ -32,14 +32,14 @@ __all__ = ["FormatError", "FORMAT_ORBITS", "TEXT_ORBITS", "build_format_source",
 
 
 def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn, prefix: str, label: str):
-    from physics.orbits.numerical import NumericalOrbit
+    from taubudget.physics.orbits.numerical import NumericalOrbit
 
     return NumericalOrbit(epoch, r_m, v_m_per_s, force.earth_zonal_degree, force.sun, force.moon,
                           field_prefix=prefix, label=label)
 
 
 def _omm_sources(orbit: OmmOrbitIn, prefix: str):
-    from physics.orbits import TleOrbit
+    from taubudget.physics.orbits import TleOrbit
 
     from .omm import parse_omm
 
@@ -74,7 +74,7 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
                 found = [_pick(found, orbit.object_id, "OMM")]
             return [(str(i), s) for i, _, s in found]
         if isinstance(orbit, TleFileOrbitIn):
-            from physics.orbits import TleOrbit
+            from taubudget.physics.orbits import TleOrbit
 
             from .tle_file import parse_tle_file, select
 

@@ -37,10 +37,10 @@ import re
 import numpy as np
 from skyfield.framelib import ICRS_to_J2000
 
-from physics.ephemeris import timescale
-from physics.errors import PhysicsInputError
-from physics.frames import EarthOrientation
-from physics.span import Span
+from taubudget.physics.ephemeris import timescale
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.frames import EarthOrientation
+from taubudget.physics.span import Span
 
 MAX_TEXT_CHARS = 5_000_000
 """Largest message the parsers read, characters (about 30 days of 60 s OEM states)."""

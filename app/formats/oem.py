@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics.orbits.ephemeris_table import EphemerisTable, Segment
+from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
 
 from .common import (
     MAX_DATA_LINES,

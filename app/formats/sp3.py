@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from physics.orbits.ephemeris_table import EphemerisTable, Segment
+from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
 
 from .common import MAX_DATA_LINES, FormatError, check_size, make_time, to_gcrs
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from physics.orbits.tle import tle_checksum_ok
+from taubudget.physics.orbits.tle import tle_checksum_ok
 
 from .common import FormatError, check_size
 

@@ -25,10 +25,10 @@ from skyfield.constants import AU_M, DAY_S  # noqa: E402
 from skyfield.framelib import itrs  # noqa: E402
 from skyfield.positionlib import Geocentric  # noqa: E402
 
-from physics.constants import C2_M2_PER_S2  # noqa: E402
-from physics.ephemeris import timescale  # noqa: E402
-from physics.orbits import KeplerianOrbit  # noqa: E402
-from physics.span import Span  # noqa: E402
+from taubudget.physics.constants import C2_M2_PER_S2  # noqa: E402
+from taubudget.physics.ephemeris import timescale  # noqa: E402
+from taubudget.physics.orbits import KeplerianOrbit  # noqa: E402
+from taubudget.physics.span import Span  # noqa: E402
 
 OUT = Path(__file__).resolve().parent
 EPOCH_UTC = (2027, 3, 1, 0, 0, 0.0)

@@ -7,9 +7,9 @@ import copy
 import pytest
 from fastapi.testclient import TestClient
 
-from app.main import create_app
-from app.schemas import EXAMPLE_REQUEST
-from app.settings import Settings
+from taubudget.app.main import create_app
+from taubudget.app.schemas import EXAMPLE_REQUEST
+from taubudget.app.settings import Settings
 
 
 @pytest.fixture(scope="module")

@@ -8,9 +8,9 @@ import math
 
 import pytest
 
-from app.schemas import EXAMPLE_BATCH_REQUEST
-from physics.budget import CAUTION, PANELS_PER_PERIOD
-from physics.quadrature import NODES_PER_PANEL
+from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST
+from taubudget.physics.budget import CAUTION, PANELS_PER_PERIOD
+from taubudget.physics.quadrature import NODES_PER_PANEL
 
 # Kouba (2004), GPS Solutions 8(3):170-180: circular a = 26,561.4 km, point-mass Earth, vs TT.
 KOUBA_RATE_US_PER_DAY = 38.575008

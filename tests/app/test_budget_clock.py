@@ -18,10 +18,10 @@ import math
 import numpy as np
 import pytest
 
-from app.schemas import BudgetRequest
-from app.service import budget_inputs
-from physics.budget import compute_budget
-from physics.clock import ClockModel
+from taubudget.app.schemas import BudgetRequest
+from taubudget.app.service import budget_inputs
+from taubudget.physics.budget import compute_budget
+from taubudget.physics.clock import ClockModel
 
 DAY_S = 86_400.0
 RUBIDIUM_ADEV_AT_1S = 1e-12  # space_rubidium preset description: white FM figure
@@ -223,7 +223,7 @@ def test_csv_query_passes_the_clock_through(client):
 
 
 def test_cli_table_shows_the_clock_block(client, tmp_path, capsys):
-    from app.cli import main
+    from taubudget.app.cli import main
 
     body = _body(time_error_budget_ns=6.0)
     ce = _post(client, body)["clock_error"]

@@ -16,7 +16,7 @@ import sys
 
 import pytest
 
-from physics.budget import CAUTION
+from taubudget.physics.budget import CAUTION
 
 # Published to the ns/day digit of 38,575.008 ns/day: half a unit is 5e-7 us/day.
 KOUBA_RATE_US_PER_DAY = 38.575008
@@ -59,7 +59,7 @@ def test_response_is_the_cli_json(client, request_body, tmp_path):
     """The route returns exactly what `taubudget budget --json` prints for the same file."""
     path = tmp_path / "req.json"
     path.write_text(json.dumps(request_body))
-    out = subprocess.run([sys.executable, "-m", "app.cli", "budget", str(path), "--json"],
+    out = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "budget", str(path), "--json"],
                          capture_output=True, text=True, check=True)
     assert client.post("/v1/budgets", json=request_body).json() == json.loads(out.stdout)
 
@@ -191,8 +191,8 @@ def test_unknown_route_and_method_are_problems(client, problem_of):
 def test_bug_becomes_500_problem_without_traceback(request_body, problem_of, monkeypatch):
     from fastapi.testclient import TestClient
 
-    from app.api import budgets
-    from app.main import create_app
+    from taubudget.app.api import budgets
+    from taubudget.app.main import create_app
 
     def broken(*args, **kwargs):
         raise ZeroDivisionError("secret internal state")

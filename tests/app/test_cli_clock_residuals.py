@@ -25,8 +25,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from app.cli import main
-from physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
+from taubudget.app.cli import main
+from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits" / "formats"
 SP3 = SAMPLES / "kestrel_constellation.sp3"

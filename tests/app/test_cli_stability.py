@@ -14,7 +14,7 @@ import allantools
 import numpy as np
 import pytest
 
-from app.cli import main
+from taubudget.app.cli import main
 
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_orbits" / "measured_phase_demo.txt"
 SAMPLE_INTERVAL_S = 10.0  # stated in the file's header

@@ -16,8 +16,8 @@ from fastapi.testclient import TestClient
 from support.nist_sp1065 import NBS9_Y
 from support.nist_sp1065 import TABLE_30 as SP1065_TABLE_30
 
-from app.main import create_app
-from app.settings import Settings
+from taubudget.app.main import create_app
+from taubudget.app.settings import Settings
 
 NBS_9 = NBS9_Y
 

@@ -6,9 +6,9 @@ from types import SimpleNamespace
 
 import pytest
 
-from app.compute import Compute
-from app.problems import ProblemError
-from app.settings import Settings
+from taubudget.app.compute import Compute
+from taubudget.app.problems import ProblemError
+from taubudget.app.settings import Settings
 
 
 def _request(slots: int, wait_s: float):

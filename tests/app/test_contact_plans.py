@@ -10,8 +10,8 @@ import pathlib
 import pytest
 from pydantic import ValidationError
 
-from app.contacts import PASS_COLUMNS, ContactPlanRequest, contact_plan_from_request, passes_csv
-from physics.budget import CAUTION
+from taubudget.app.contacts import PASS_COLUMNS, ContactPlanRequest, contact_plan_from_request, passes_csv
+from taubudget.physics.budget import CAUTION
 
 SAMPLES = pathlib.Path(__file__).resolve().parents[2] / "sample_orbits"
 

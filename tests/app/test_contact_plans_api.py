@@ -56,15 +56,15 @@ def test_contact_plan_errors_name_fields(client, problem_of):
 
 def test_cli_contacts_table_and_json(tmp_path):
     path = SAMPLES / "contact_plan_leo.json"
-    out = subprocess.run([sys.executable, "-m", "app.cli", "contacts", str(path), "--json"],
+    out = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "contacts", str(path), "--json"],
                          capture_output=True, text=True, check=True)
     plan = json.loads(out.stdout)
     assert plan["passes"] and "meets_budget" in plan
-    table = subprocess.run([sys.executable, "-m", "app.cli", "contacts", str(path)],
+    table = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "contacts", str(path)],
                            capture_output=True, text=True, check=True).stdout
     assert "worst error" in table and "Planning estimate" in table
     bad = tmp_path / "bad.json"
     bad.write_text(json.dumps({**_body(), "stations": []}))
-    res = subprocess.run([sys.executable, "-m", "app.cli", "contacts", str(bad)],
+    res = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "contacts", str(bad)],
                          capture_output=True, text=True)
     assert res.returncode == 2 and "stations" in res.stderr

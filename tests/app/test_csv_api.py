@@ -8,8 +8,8 @@ import math
 
 import pytest
 
-from app.csv_format import SUMMARY_FIELDS, lookup
-from physics.budget import CAUTION
+from taubudget.app.csv_format import SUMMARY_FIELDS, lookup
+from taubudget.physics.budget import CAUTION
 
 # Kouba (2004), GPS Solutions 8(3):170-180: circular a = 26,561.4 km, point-mass Earth, vs TT.
 KOUBA_RATE_US_PER_DAY = 38.575008

@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 import yaml
 
-from app.cli import build_parser
+from taubudget.app.cli import build_parser
 
 REPO = Path(__file__).resolve().parents[2]
 DEPLOY = REPO / "deploy"

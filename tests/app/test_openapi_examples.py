@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 import schemathesis
 
-from app.main import create_app
+from taubudget.app.main import create_app
 
 SERVICE_OPERATIONS = {("POST", "/v1/budgets"), ("POST", "/v1/budgets/batch"), ("GET", "/v1/budgets.csv"),
                       ("GET", "/v1/reference"), ("GET", "/healthz"), ("GET", "/readyz")}

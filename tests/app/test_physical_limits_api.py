@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from app.schemas import EXAMPLE_REQUEST
+from taubudget.app.schemas import EXAMPLE_REQUEST
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"
 

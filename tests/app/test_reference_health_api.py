@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from fastapi.testclient import TestClient
 
-import physics.constants as constants
-from app.main import create_app
-from physics.budget import CAUTION
-from physics.ephemeris import versions
+import taubudget.physics.constants as constants
+from taubudget.app.main import create_app
+from taubudget.physics.budget import CAUTION
+from taubudget.physics.ephemeris import versions
 
 
 def test_reference_lists_every_constant_with_its_source(client):

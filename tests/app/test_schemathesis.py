@@ -16,8 +16,8 @@ from schemathesis.specs.openapi.checks import (
     status_code_conformance,
 )
 
-from app.main import create_app
-from app.settings import Settings
+from taubudget.app.main import create_app
+from taubudget.app.settings import Settings
 
 CASES_PER_OPERATION = 30
 # A generated budget on a span of at most 2 days computes in well under a second; 10 s leaves

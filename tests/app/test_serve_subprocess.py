@@ -16,8 +16,8 @@ from pathlib import Path
 import httpx
 import pytest
 
-from app.schemas import EXAMPLE_BATCH_REQUEST, EXAMPLE_REQUEST
-from physics.budget import CAUTION
+from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST, EXAMPLE_REQUEST
+from taubudget.physics.budget import CAUTION
 
 REPO = Path(__file__).resolve().parents[2]
 STARTUP_TIMEOUT_S = 60.0  # imports plus loading DE421 on a busy 2-core machine
@@ -38,7 +38,7 @@ def server():
     port = _free_port()
     env = {**os.environ, "PYTHONPATH": str(REPO)}
     proc = subprocess.Popen(
-        [sys.executable, "-m", "app.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
+        [sys.executable, "-m", "taubudget.app.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
          "--log-level", "warning"],
         cwd=REPO, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
     )

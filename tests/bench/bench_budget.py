@@ -25,12 +25,12 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from support.budgets import LEO_TLE  # noqa: E402
 
-from physics.budget import BudgetInputs, compute_budget  # noqa: E402
-from physics.environment import environment_for  # noqa: E402
-from physics.ephemeris import timescale  # noqa: E402
-from physics.orbits import KeplerianOrbit, TleOrbit  # noqa: E402
-from physics.rate import GravityModel, integrand_terms  # noqa: E402
-from physics.span import Span  # noqa: E402
+from taubudget.physics.budget import BudgetInputs, compute_budget  # noqa: E402
+from taubudget.physics.environment import environment_for  # noqa: E402
+from taubudget.physics.ephemeris import timescale  # noqa: E402
+from taubudget.physics.orbits import KeplerianOrbit, TleOrbit  # noqa: E402
+from taubudget.physics.rate import GravityModel, integrand_terms  # noqa: E402
+from taubudget.physics.span import Span  # noqa: E402
 
 FULL = GravityModel(4, True, True)
 

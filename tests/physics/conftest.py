@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from physics.ephemeris import timescale
+from taubudget.physics.ephemeris import timescale
 
 
 @pytest.fixture(scope="session")

@@ -11,11 +11,11 @@ import math
 import numpy as np
 from sgp4.api import WGS72, Satrec
 
-from physics.constants import SECONDS_PER_DAY
-from physics.environment import environment_for
-from physics.orbits import TleOrbit
-from physics.rate import GravityModel, integrand_terms
-from physics.span import Span
+from taubudget.physics.constants import SECONDS_PER_DAY
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import TleOrbit
+from taubudget.physics.rate import GravityModel, integrand_terms
+from taubudget.physics.span import Span
 
 FIFTEEN_PERCENT = 0.15  # issue 2 tolerance on the published amplitude
 

@@ -3,12 +3,12 @@
 import numpy as np
 import pytest
 
-from physics.constants import C2_M2_PER_S2, GRS80_PUBLISHED_J, GRS80_U0_M2_PER_S2, W0_M2_PER_S2
-from physics.environment import environment_for
-from physics.orbits import SurfaceClock
-from physics.potential.normal import grs80_zonals, normal_potential
-from physics.rate import GravityModel, integrand_terms
-from physics.span import Span
+from taubudget.physics.constants import C2_M2_PER_S2, GRS80_PUBLISHED_J, GRS80_U0_M2_PER_S2, W0_M2_PER_S2
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import SurfaceClock
+from taubudget.physics.potential.normal import grs80_zonals, normal_potential
+from taubudget.physics.rate import GravityModel, integrand_terms
+from taubudget.physics.span import Span
 
 TWO_E_MINUS_16 = 2e-16  # issue 2: equator and 60 deg clocks agree within 2e-16
 ONE_PERCENT = 0.01

@@ -6,7 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import POINT_MASS, kepler_budget
 
-from physics.constants import (
+from taubudget.physics.constants import (
     C2_M2_PER_S2,
     GM_EARTH_TCG_M3_PER_S2,
     GM_MOON_M3_PER_S2,
@@ -14,11 +14,11 @@ from physics.constants import (
     L_G,
     W0_M2_PER_S2,
 )
-from physics.environment import environment_for
-from physics.kepler import solve_kepler
-from physics.orbits import KeplerianOrbit
-from physics.rate import GravityModel, integrand_terms
-from physics.span import Span
+from taubudget.physics.environment import environment_for
+from taubudget.physics.kepler import solve_kepler
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.rate import GravityModel, integrand_terms
+from taubudget.physics.span import Span
 
 TEN_PICOSECONDS_NS = 0.01  # tolerance the issue sets for the periodic term
 ONE_PERCENT = 0.01

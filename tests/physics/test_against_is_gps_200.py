@@ -1,6 +1,6 @@
 """IS-GPS-200 relativistic correction constant F (section 20.3.3.3.3.1)."""
 
-from physics.constants import GPS_F_S_PER_SQRT_M
+from taubudget.physics.constants import GPS_F_S_PER_SQRT_M
 
 # IS-GPS-200: F = -2 sqrt(mu)/c^2 = -4.442807633e-10 s/m^(1/2), mu = 3.986005e14.
 PUBLISHED_F = -4.442807633e-10

@@ -9,9 +9,9 @@ and the periodic remainder is TDB - TT.
 import erfa
 import numpy as np
 
-from physics.constants import C2_M2_PER_S2, L_C
-from physics.quadrature import integrate
-from physics.solar_system import BODIES, GM_M3_PER_S2, barycentric_states
+from taubudget.physics.constants import C2_M2_PER_S2, L_C
+from taubudget.physics.quadrature import integrate
+from taubudget.physics.solar_system import BODIES, GM_M3_PER_S2, barycentric_states
 
 J2000_JD_TDB = 2451545.0
 FORTY_YEARS_S = 40 * 365.25 * 86400.0

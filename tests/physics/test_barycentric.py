@@ -3,15 +3,15 @@
 import numpy as np
 import pytest
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.constants import AU_M, C2_M2_PER_S2, GM_SUN_M3_PER_S2
-from physics.environment import environment_for
-from physics.errors import PhysicsInputError
-from physics.orbits import KeplerianOrbit
-from physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
-from physics.rate import GravityModel
-from physics.solar_system import barycentric_states, solar_system_for
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.constants import AU_M, C2_M2_PER_S2, GM_SUN_M3_PER_S2
+from taubudget.physics.environment import environment_for
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.solar_system import barycentric_states, solar_system_for
+from taubudget.physics.span import Span
 
 FULL = GravityModel(4, True, True)
 FIVE_HUNDREDTHS_US_PER_DAY = 0.05  # issue 6 tolerance on Ashby & Patla's figure
@@ -105,7 +105,7 @@ def test_barycentric_input_errors(ts):
     with pytest.raises(PhysicsInputError):
         CentredKeplerianOrbit("sun", start, AU_M, 1.3, 0, 0, 0, 0)
     probe = CentredKeplerianOrbit("sun", start, AU_M, 0.1, 0, 0, 0, 0)
-    from physics.orbits import SurfaceClock
+    from taubudget.physics.orbits import SurfaceClock
 
     with pytest.raises(PhysicsInputError) as info:
         compute_budget(BudgetInputs(probe, SurfaceClock(0, 0, 0), Span(start, 86400.0), FULL))
@@ -117,8 +117,8 @@ def test_light_time_to_mars_against_skyfield(ts):
     # our surface clock sits up to one Mars radius (3,387 km = 11.3 ms) off the centre, and our
     # value adds the solar Shapiro delay (< 0.1 ms here). The geometric distance at reception
     # is ~27 ms off on this date, so the check tells the iterated solution from the naive one.
-    from physics.ephemeris import ephemeris
-    from physics.orbits import SurfaceClock
+    from taubudget.physics.ephemeris import ephemeris
+    from taubudget.physics.orbits import SurfaceClock
 
     eph = ephemeris()
     span = Span(ts.utc(2028, 6, 1), 2 * 86400.0)
@@ -133,7 +133,7 @@ def test_light_time_to_mars_against_skyfield(ts):
     # Tighter: skyfield's light time to the centre plus the clock's offset from the centre along
     # the line of sight (n . r_rel / c, emission time), plus our solar Shapiro delay; the
     # remainder is second order (n.v/c x 11 ms ~ 1e-7 s).
-    from physics.constants import C_M_PER_S
+    from taubudget.physics.constants import C_M_PER_S
 
     ss = solar_system_for(span)
     clock = inputs.source
@@ -153,7 +153,7 @@ def test_ground_clock_agrees_between_gcrs_and_bcrs(ts):
     # agrees between the frames (the position term of a ground clock is a daily ripple of
     # v_E * R_E / c^2 = 2 us that the secular fit removes), and the geoid undulation moves
     # both by g N / c^2 (Bruns; ~5.4e-15 for 50 m).
-    from physics.orbits import SurfaceClock
+    from taubudget.physics.orbits import SurfaceClock
 
     span = Span(ts.utc(2027, 3, 1), 3 * 86400.0)
     rates = {}

@@ -4,12 +4,12 @@ import numpy as np
 import pytest
 from support.budgets import POINT_MASS, kepler_budget
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.constants import C2_M2_PER_S2, L_G
-from physics.errors import PhysicsInputError
-from physics.orbits import KeplerianOrbit, SurfaceClock
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.constants import C2_M2_PER_S2, L_G
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import KeplerianOrbit, SurfaceClock
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 
 def test_tcg_reference_differs_by_lg(ts):

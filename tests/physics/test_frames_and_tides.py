@@ -5,11 +5,11 @@ from skyfield.api import wgs84
 from skyfield.framelib import itrs
 from skyfield.sgp4lib import TEME
 
-from physics.constants import GM_MOON_M3_PER_S2, GM_SUN_M3_PER_S2
-from physics.ephemeris import ephemeris
-from physics.frames import EarthOrientation
-from physics.potential.tidal import SunMoonPositions, tidal_potential
-from physics.span import Span
+from taubudget.physics.constants import GM_MOON_M3_PER_S2, GM_SUN_M3_PER_S2
+from taubudget.physics.ephemeris import ephemeris
+from taubudget.physics.frames import EarthOrientation
+from taubudget.physics.potential.tidal import SunMoonPositions, tidal_potential
+from taubudget.physics.span import Span
 
 ONE_MILLIMETRE_M = 1e-3
 ONE_METRE_M = 1.0

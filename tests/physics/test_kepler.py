@@ -7,8 +7,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from sgp4.api import WGS72, Satrec
 
-from physics.constants import GM_EARTH_TCG_M3_PER_S2, SECONDS_PER_DAY
-from physics.kepler import elements_to_state, solve_kepler
+from taubudget.physics.constants import GM_EARTH_TCG_M3_PER_S2, SECONDS_PER_DAY
+from taubudget.physics.kepler import elements_to_state, solve_kepler
 
 KEPLER_TOLERANCE_RAD = 1e-15  # issue 2: solver good to 1e-15 rad
 ULP_MARGIN = 4  # the residual E - e sin E - M is itself rounded at |E| ~ pi
@@ -43,8 +43,8 @@ def test_vis_viva_and_angular_momentum():
 def test_j2_secular_node_rate_matches_sgp4():
     # SGP4's secular nodal rate (Hoots & Roehrich 1980, Spacetrack Report 3) includes J2 at
     # first order plus J4 and higher; our first-order Brouwer rate agrees within 1 %.
-    from physics.ephemeris import timescale
-    from physics.orbits import KeplerianOrbit
+    from taubudget.physics.ephemeris import timescale
+    from taubudget.physics.orbits import KeplerianOrbit
 
     ts = timescale()
     epoch = ts.utc(2027, 3, 1)

@@ -4,12 +4,12 @@ import socket
 
 import pytest
 
-from physics import environment as env_mod
-from physics import ephemeris as eph_mod
-from physics.budget import BudgetInputs, compute_budget
-from physics.orbits import KeplerianOrbit
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics import environment as env_mod
+from taubudget.physics import ephemeris as eph_mod
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 
 class _NoNetwork(socket.socket):

@@ -12,13 +12,13 @@ import numpy as np
 import pytest
 from support.budgets import POINT_MASS
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.constants import EGM2008_J, EGM2008_REFERENCE_RADIUS_M, L_G, SECONDS_PER_DAY
-from physics.errors import PhysicsInputError
-from physics.orbits import KeplerianOrbit
-from physics.orbits.numerical import NumericalOrbit, zonal_acceleration
-from physics.potential.earth import earth_potential
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.constants import EGM2008_J, EGM2008_REFERENCE_RADIUS_M, L_G, SECONDS_PER_DAY
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.orbits.numerical import NumericalOrbit, zonal_acceleration
+from taubudget.physics.potential.earth import earth_potential
+from taubudget.physics.span import Span
 
 ONE_CENTIMETRE_M = 1e-2  # two-body position agreement after a day: DOP853 at rtol 1e-13 gives ~mm
 ONE_PS_PER_DAY_US_PER_DAY = 1e-6  # the 1 ps/day target, in the budget's us/day unit
@@ -109,7 +109,7 @@ def test_j2_mean_nodal_rate_matches_first_order_theory(ts):
     t_s = np.linspace(0.0, span.duration_s, 4001)
     st = num.states(span, t_s)
     # Node in a frame whose z axis is the pole at mid-span (the pole moves < 1e-5 rad in 20 d).
-    from physics.environment import environment_for
+    from taubudget.physics.environment import environment_for
 
     pole = environment_for(span).orientation.pole_gcrs(np.array([0.5 * span.duration_s]))[0]
     x_ax = np.cross([0.0, 1.0, 0.0], pole)

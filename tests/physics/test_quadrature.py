@@ -5,11 +5,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import kepler_budget
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.orbits import KeplerianOrbit
-from physics.quadrature import integrate
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.quadrature import integrate
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 ONE_PS_PER_DAY_S = 1e-12  # integration target (DESIGN.md): 1 ps per day of span
 FULL = GravityModel(4, True, True)
@@ -61,8 +61,8 @@ def test_offset_continuous_across_panel_edges(ts, e, frac, eps):
     src = KeplerianOrbit(start, 30000e3, e, 40.0, 0.0, 0.0, 0.0)
     period = src.period_s()
     span = Span(start, frac * period)
-    from physics.environment import environment_for
-    from physics.rate import integrand_terms
+    from taubudget.physics.environment import environment_for
+    from taubudget.physics.rate import integrand_terms
 
     env = environment_for(span)
     q = integrate(lambda t: integrand_terms(src, "TT", t, FULL, env).total, 0.0, span.duration_s, period / 2)

@@ -5,12 +5,12 @@ import pytest
 from skyfield.api import EarthSatellite
 from support.budgets import LEO_TLE
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.environment import environment_for
-from physics.errors import PhysicsInputError
-from physics.orbits import TleOrbit
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.environment import environment_for
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import TleOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 ONE_MILLIMETRE_M = 1e-3
 ONE_MICRON_PER_S = 1e-6

@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-from physics.budget import BudgetInputs, compute_budget
-from physics.orbits import KeplerianOrbit
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 POINT_MASS = GravityModel(earth_zonal_degree=0, sun=False, moon=False)
 

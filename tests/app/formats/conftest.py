@@ -187,7 +187,7 @@ def omm_csv(records: list[dict]):
 
 @pytest.fixture(scope="session")
 def ts():
-    from physics.ephemeris import timescale
+    from taubudget.physics.ephemeris import timescale
 
     return timescale()
 

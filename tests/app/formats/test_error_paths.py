@@ -12,15 +12,15 @@ import numpy as np
 import pytest
 from support.budgets import LEO_TLE
 
-from app.formats import build_format_source
-from app.formats.common import MAX_TEXT_CHARS, FormatError
-from app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, Sp3OrbitIn, TleFileOrbitIn
-from app.formats.omm import parse_omm
-from app.formats.opm import parse_opm
-from app.formats.rinex_clock import parse_rinex_clock
-from app.formats.sp3 import parse_sp3
-from app.formats.tle_file import parse_tle_file
-from physics.errors import PhysicsInputError
+from taubudget.app.formats import build_format_source
+from taubudget.app.formats.common import MAX_TEXT_CHARS, FormatError
+from taubudget.app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, Sp3OrbitIn, TleFileOrbitIn
+from taubudget.app.formats.omm import parse_omm
+from taubudget.app.formats.opm import parse_opm
+from taubudget.app.formats.rinex_clock import parse_rinex_clock
+from taubudget.app.formats.sp3 import parse_sp3
+from taubudget.app.formats.tle_file import parse_tle_file
+from taubudget.physics.errors import PhysicsInputError
 
 SAMPLES = Path(__file__).resolve().parents[3] / "sample_orbits" / "formats"
 R_KM = (-12_000.123456789, 21_000.5, 8_000.25)
@@ -129,7 +129,7 @@ def test_omm_undetectable_encoding():
 # --- OEM ---------------------------------------------------------------------------
 
 def test_oem_missing_metadata_keyword(odm):
-    from app.formats.oem import parse_oem
+    from taubudget.app.formats.oem import parse_oem
 
     text = _oem_text(odm)
     text = "\n".join(ln for ln in text.splitlines() if not ln.startswith("TIME_SYSTEM"))
@@ -139,7 +139,7 @@ def test_oem_missing_metadata_keyword(odm):
 
 
 def test_oem_bad_epoch_line_and_unknown_frame(odm):
-    from app.formats.oem import parse_oem
+    from taubudget.app.formats.oem import parse_oem
 
     text = _oem_text(odm).replace("2027-03-01T00:10:00", "2027-03-01T00:61:00")
     with pytest.raises(FormatError) as info:
@@ -151,7 +151,7 @@ def test_oem_bad_epoch_line_and_unknown_frame(odm):
 
 
 def test_oem_never_extrapolates(ts, odm):
-    from physics.span import Span
+    from taubudget.physics.span import Span
 
     src = build_format_source(OemOrbitIn(type="oem", text=_oem_text(odm)))
     span = Span(ts.utc(2027, 3, 1), 3600.0)

@@ -3,7 +3,7 @@
 import copy
 from pathlib import Path
 
-from app.schemas import EXAMPLE_REQUEST
+from taubudget.app.schemas import EXAMPLE_REQUEST
 
 SAMPLES = Path(__file__).resolve().parents[3] / "sample_orbits" / "formats"
 

@@ -16,13 +16,13 @@ from skyfield.positionlib import Geocentric
 from skyfield.sgp4lib import TEME
 from support.budgets import LEO_TLE, POINT_MASS
 
-from app.formats import build_format_source, format_sources
-from app.formats.common import parse_epoch
-from app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, TleFileOrbitIn
-from physics.budget import BudgetInputs, compute_budget
-from physics.environment import environment_for
-from physics.orbits import KeplerianOrbit, TleOrbit
-from physics.span import Span
+from taubudget.app.formats import build_format_source, format_sources
+from taubudget.app.formats.common import parse_epoch
+from taubudget.app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, TleFileOrbitIn
+from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import KeplerianOrbit, TleOrbit
+from taubudget.physics.span import Span
 
 ONE_PS_PER_DAY_US_PER_DAY = 1e-6  # the 1 ps/day, in the budget's unit
 ONE_PS_NS = 1e-3

@@ -12,12 +12,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from app.formats.rinex_clock import parse_rinex_clock
-from app.formats.sp3 import clock_series, parse_sp3, sp3_source
-from physics.clock_residuals import clock_residuals
-from physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
-from physics.orbits import KeplerianOrbit
-from physics.span import Span
+from taubudget.app.formats.rinex_clock import parse_rinex_clock
+from taubudget.app.formats.sp3 import clock_series, parse_sp3, sp3_source
+from taubudget.physics.clock_residuals import clock_residuals
+from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
+from taubudget.physics.orbits import KeplerianOrbit
+from taubudget.physics.span import Span
 
 SAMPLES = Path(__file__).resolve().parents[3] / "sample_orbits" / "formats"
 ELEMENTS = {"L51": (7_078.0, 0.0015, 97.9, 40.0, 90.0, 15.0),

@@ -11,10 +11,10 @@ import allantools
 import numpy as np
 import pytest
 
-from physics.clock import edf as edf_mod
-from physics.clock import powerlaw, simulate
-from physics.clock import stability as st
-from physics.clock.noise_id import noise_alpha_lag1
+from taubudget.physics.clock import edf as edf_mod
+from taubudget.physics.clock import powerlaw, simulate
+from taubudget.physics.clock import stability as st
+from taubudget.physics.clock.noise_id import noise_alpha_lag1
 
 N_SAMPLES = 2**15
 SEED = 20240611

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from physics.clock import powerlaw
+from taubudget.physics.clock import powerlaw
 
 QUADRATURE = 1e-6
 """Relative accuracy asked of the numerical integral (quad tolerance, with margin)."""

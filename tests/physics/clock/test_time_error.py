@@ -17,7 +17,7 @@ import math
 import numpy as np
 import pytest
 
-from physics.clock import ClockModel, simulate, time_error
+from taubudget.physics.clock import ClockModel, simulate, time_error
 
 SEED = 4242
 N_REALISATIONS = 3000
@@ -50,7 +50,7 @@ def test_monte_carlo_spread_matches_analytic_sigma(h_alpha):
 
 
 def test_sigma_equals_t_times_adev_for_white_and_random_walk_fm():
-    from physics.clock import powerlaw
+    from taubudget.physics.clock import powerlaw
 
     t = np.array([10.0, 1e3, 1e5])
     for h in ({0: 3e-25}, {-2: 2e-33}):

@@ -18,11 +18,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import LEO_TLE
 
-from physics.constants import C_M_PER_S, EARTH_ROTATION_RATE_RAD_PER_S, WGS84_A_M
-from physics.contacts import GroundStation, downlink, find_passes, sagnac_correction_s
-from physics.environment import environment_for
-from physics.orbits import KeplerianOrbit, TleOrbit
-from physics.span import Span
+from taubudget.physics.constants import C_M_PER_S, EARTH_ROTATION_RATE_RAD_PER_S, WGS84_A_M
+from taubudget.physics.contacts import GroundStation, downlink, find_passes, sagnac_correction_s
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import KeplerianOrbit, TleOrbit
+from taubudget.physics.span import Span
 
 ASHBY_2OMEGA_OVER_C2_S_PER_M2 = 1.6227e-21  # Ashby 2003, section 2
 ASHBY_EQUATOR_CIRCUIT_NS = 207.4  # Ashby 2003, section 2

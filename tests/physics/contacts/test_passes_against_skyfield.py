@@ -14,10 +14,10 @@ from scipy.optimize import brentq
 from skyfield.api import EarthSatellite, wgs84
 from support.budgets import LEO_TLE
 
-from physics.contacts import GroundStation, find_passes
-from physics.environment import environment_for
-from physics.orbits import TleOrbit
-from physics.span import Span
+from taubudget.physics.contacts import GroundStation, find_passes
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import TleOrbit
+from taubudget.physics.span import Span
 
 ONE_SECOND_S = 1.0
 """Issue 5 acceptance: pass times agree with skyfield's mask crossing within 1 s."""

@@ -17,12 +17,12 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from physics.constants import GM_EARTH_TCG_M3_PER_S2, WGS84_A_M
-from physics.contacts import GroundStation, find_passes
-from physics.environment import environment_for
-from physics.frames import ERA_RATE_RAD_PER_S
-from physics.orbits import OrbitSource, States
-from physics.span import Span
+from taubudget.physics.constants import GM_EARTH_TCG_M3_PER_S2, WGS84_A_M
+from taubudget.physics.contacts import GroundStation, find_passes
+from taubudget.physics.environment import environment_for
+from taubudget.physics.frames import ERA_RATE_RAD_PER_S
+from taubudget.physics.orbits import OrbitSource, States
+from taubudget.physics.span import Span
 
 TEN_MILLISECONDS_S = 0.01
 """Pass duration tolerance: two roots refined to 1 ms each, plus the orientation round trip (~1e-13 rad)."""

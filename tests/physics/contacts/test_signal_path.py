@@ -17,12 +17,12 @@ import pytest
 from skyfield.api import EarthSatellite, wgs84
 from support.budgets import LEO_TLE
 
-from physics.constants import C_M_PER_S, L_G, SECONDS_PER_DAY
-from physics.contacts import GroundStation, downlink, find_passes
-from physics.environment import environment_for
-from physics.orbits import KeplerianOrbit, TleOrbit
-from physics.rate import GravityModel
-from physics.span import Span
+from taubudget.physics.constants import C_M_PER_S, L_G, SECONDS_PER_DAY
+from taubudget.physics.contacts import GroundStation, downlink, find_passes
+from taubudget.physics.environment import environment_for
+from taubudget.physics.orbits import KeplerianOrbit, TleOrbit
+from taubudget.physics.rate import GravityModel
+from taubudget.physics.span import Span
 
 KOUBA_NS_PER_DAY = 38_575.008  # Kouba 2004, circular GPS orbit against TT
 

@@ -14,7 +14,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from physics.contacts import (
+from taubudget.physics.contacts import (
     Pass,
     SyncPolicy,
     clock_error_model,
