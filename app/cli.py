@@ -14,7 +14,6 @@ import json
 import sys
 
 from pydantic import ValidationError
-
 from taubudget.physics.errors import PhysicsInputError
 
 

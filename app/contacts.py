@@ -16,7 +16,6 @@ from typing import Literal
 
 import numpy as np
 from pydantic import BaseModel, ConfigDict, Field, model_validator
-
 from taubudget.physics.budget import CAUTION, compute_budget
 from taubudget.physics.clock import ClockModel
 from taubudget.physics.contacts import (

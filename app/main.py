@@ -14,7 +14,6 @@ from fastapi import FastAPI
 from fastapi.concurrency import run_in_threadpool
 from fastapi.openapi.utils import get_openapi
 from pydantic.json_schema import models_json_schema
-
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import ephemeris, timescale
 

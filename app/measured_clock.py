@@ -24,7 +24,6 @@ import re
 
 import numpy as np
 from pydantic import ValidationError
-
 from taubudget.physics.clock_residuals import clock_residuals
 from taubudget.physics.environment import environment_for
 from taubudget.physics.errors import PhysicsInputError

@@ -29,7 +29,6 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
 from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
-
 from taubudget.physics.errors import PhysicsInputError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"

@@ -9,7 +9,6 @@ from __future__ import annotations
 from typing import Annotated, Any, Literal
 
 from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
-
 from taubudget.physics.clock import PRESETS as _CLOCK_PRESETS
 
 from .formats.models import (

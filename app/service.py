@@ -296,7 +296,6 @@ def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
     import math
 
     import numpy as np
-
     from taubudget.physics.timing_budget import combined_max_free_running_s, combined_time_error
 
     model = clock_model(req.clock) if model is None else model
@@ -353,7 +352,6 @@ MONTE_CARLO_MAX_SAMPLES = 4_000_000
 def _exceedance(req: BudgetRequest, model, residual, t_end: float) -> dict:
     """Monte Carlo probability that |deterministic + noise| passes the budget within the span."""
     import numpy as np
-
     from taubudget.physics.clock import exceedance_probability
 
     steps = max(16, min(4096, MONTE_CARLO_MAX_SAMPLES // req.monte_carlo_runs))
@@ -396,7 +394,6 @@ def stability_from_data(data, data_type: str, sample_interval_s: float, confiden
     import math
 
     import numpy as np
-
     from taubudget.physics.clock import stability_table
 
     settings = settings or get_settings()

@@ -8,7 +8,6 @@ from typing import Annotated, Any
 from fastapi import APIRouter, Query, Request
 from fastapi.responses import JSONResponse, PlainTextResponse, Response
 from pydantic import ValidationError
-
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.errors import PhysicsInputError
 

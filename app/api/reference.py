@@ -9,10 +9,9 @@ import inspect
 import platform
 import re
 
+import taubudget.physics.constants as constants_mod
 from fastapi import APIRouter
 from fastapi.responses import JSONResponse
-
-import taubudget.physics.constants as constants_mod
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import versions
 from taubudget.physics.rate import TERM_NAMES

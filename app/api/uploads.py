@@ -30,7 +30,6 @@ from fastapi import Request
 from fastapi.concurrency import run_in_threadpool
 from pydantic import ValidationError
 from starlette.datastructures import UploadFile
-
 from taubudget.physics.errors import PhysicsInputError
 
 from ..deps import parse_json

@@ -10,7 +10,6 @@ and the keyword).
 from __future__ import annotations
 
 import numpy as np
-
 from taubudget.physics.ephemeris import timescale
 from taubudget.physics.errors import PhysicsInputError
 

@@ -36,7 +36,6 @@ import re
 
 import numpy as np
 from skyfield.framelib import ICRS_to_J2000
-
 from taubudget.physics.ephemeris import timescale
 from taubudget.physics.errors import PhysicsInputError
 from taubudget.physics.frames import EarthOrientation

@@ -14,7 +14,6 @@ Lagrange of degree 7 and say so in the description.
 from __future__ import annotations
 
 import numpy as np
-
 from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
 
 from .common import (

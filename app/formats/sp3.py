@@ -25,7 +25,6 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-
 from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
 
 from .common import MAX_DATA_LINES, FormatError, check_size, make_time, to_gcrs

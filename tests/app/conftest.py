@@ -6,7 +6,6 @@ import copy
 
 import pytest
 from fastapi.testclient import TestClient
-
 from taubudget.app.main import create_app
 from taubudget.app.schemas import EXAMPLE_REQUEST
 from taubudget.app.settings import Settings

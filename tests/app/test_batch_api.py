@@ -7,7 +7,6 @@ import json
 import math
 
 import pytest
-
 from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST
 from taubudget.physics.budget import CAUTION, PANELS_PER_PERIOD
 from taubudget.physics.quadrature import NODES_PER_PANEL

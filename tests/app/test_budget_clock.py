@@ -17,7 +17,6 @@ import math
 
 import numpy as np
 import pytest
-
 from taubudget.app.schemas import BudgetRequest
 from taubudget.app.service import budget_inputs
 from taubudget.physics.budget import compute_budget

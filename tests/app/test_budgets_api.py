@@ -15,7 +15,6 @@ import subprocess
 import sys
 
 import pytest
-
 from taubudget.physics.budget import CAUTION
 
 # Published to the ns/day digit of 38,575.008 ns/day: half a unit is 5e-7 us/day.
@@ -190,7 +189,6 @@ def test_unknown_route_and_method_are_problems(client, problem_of):
 
 def test_bug_becomes_500_problem_without_traceback(request_body, problem_of, monkeypatch):
     from fastapi.testclient import TestClient
-
     from taubudget.app.api import budgets
     from taubudget.app.main import create_app
 

@@ -24,7 +24,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from taubudget.app.cli import main
 from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
 

@@ -13,7 +13,6 @@ from pathlib import Path
 import allantools
 import numpy as np
 import pytest
-
 from taubudget.app.cli import main
 
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_orbits" / "measured_phase_demo.txt"

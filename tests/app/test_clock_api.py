@@ -15,7 +15,6 @@ import pytest
 from fastapi.testclient import TestClient
 from support.nist_sp1065 import NBS9_Y
 from support.nist_sp1065 import TABLE_30 as SP1065_TABLE_30
-
 from taubudget.app.main import create_app
 from taubudget.app.settings import Settings
 

@@ -5,7 +5,6 @@ import time
 from types import SimpleNamespace
 
 import pytest
-
 from taubudget.app.compute import Compute
 from taubudget.app.problems import ProblemError
 from taubudget.app.settings import Settings

@@ -9,7 +9,6 @@ import pathlib
 
 import pytest
 from pydantic import ValidationError
-
 from taubudget.app.contacts import PASS_COLUMNS, ContactPlanRequest, contact_plan_from_request, passes_csv
 from taubudget.physics.budget import CAUTION
 

@@ -7,7 +7,6 @@ import io
 import math
 
 import pytest
-
 from taubudget.app.csv_format import SUMMARY_FIELDS, lookup
 from taubudget.physics.budget import CAUTION
 

@@ -9,7 +9,6 @@ from pathlib import Path
 
 import pytest
 import yaml
-
 from taubudget.app.cli import build_parser
 
 REPO = Path(__file__).resolve().parents[2]

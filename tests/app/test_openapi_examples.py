@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import pytest
 import schemathesis
-
 from taubudget.app.main import create_app
 
 SERVICE_OPERATIONS = {("POST", "/v1/budgets"), ("POST", "/v1/budgets/batch"), ("GET", "/v1/budgets.csv"),

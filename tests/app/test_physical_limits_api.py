@@ -5,7 +5,6 @@ import json
 from pathlib import Path
 
 import pytest
-
 from taubudget.app.schemas import EXAMPLE_REQUEST
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"

@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-from fastapi.testclient import TestClient
-
 import taubudget.physics.constants as constants
+from fastapi.testclient import TestClient
 from taubudget.app.main import create_app
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import versions

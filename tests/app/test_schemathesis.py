@@ -15,7 +15,6 @@ from schemathesis.specs.openapi.checks import (
     response_schema_conformance,
     status_code_conformance,
 )
-
 from taubudget.app.main import create_app
 from taubudget.app.settings import Settings
 

@@ -15,7 +15,6 @@ from pathlib import Path
 
 import httpx
 import pytest
-
 from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST, EXAMPLE_REQUEST
 from taubudget.physics.budget import CAUTION
 

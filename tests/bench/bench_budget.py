@@ -24,7 +24,6 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from support.budgets import LEO_TLE  # noqa: E402
-
 from taubudget.physics.budget import BudgetInputs, compute_budget  # noqa: E402
 from taubudget.physics.environment import environment_for  # noqa: E402
 from taubudget.physics.ephemeris import timescale  # noqa: E402

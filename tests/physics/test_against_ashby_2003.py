@@ -10,7 +10,6 @@ import math
 
 import numpy as np
 from sgp4.api import WGS72, Satrec
-
 from taubudget.physics.constants import SECONDS_PER_DAY
 from taubudget.physics.environment import environment_for
 from taubudget.physics.orbits import TleOrbit

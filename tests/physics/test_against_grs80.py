@@ -2,7 +2,6 @@
 
 import numpy as np
 import pytest
-
 from taubudget.physics.constants import C2_M2_PER_S2, GRS80_PUBLISHED_J, GRS80_U0_M2_PER_S2, W0_M2_PER_S2
 from taubudget.physics.environment import environment_for
 from taubudget.physics.orbits import SurfaceClock

@@ -5,7 +5,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import POINT_MASS, kepler_budget
-
 from taubudget.physics.constants import (
     C2_M2_PER_S2,
     GM_EARTH_TCG_M3_PER_S2,

@@ -6,7 +6,6 @@ i.e. 10.22999999543 MHz for the 10.23 MHz nominal (IS-GPS-200 section 3.3.1.1).
 """
 
 from support.budgets import kepler_budget
-
 from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2, L_G
 
 ONE_NS_PER_DAY_US = 0.001  # tolerance the issue sets: 0.001 us/day

@@ -8,7 +8,6 @@ and the periodic remainder is TDB - TT.
 
 import erfa
 import numpy as np
-
 from taubudget.physics.constants import C2_M2_PER_S2, L_C
 from taubudget.physics.quadrature import integrate
 from taubudget.physics.solar_system import BODIES, GM_M3_PER_S2, barycentric_states

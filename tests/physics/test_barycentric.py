@@ -2,7 +2,6 @@
 
 import numpy as np
 import pytest
-
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.constants import AU_M, C2_M2_PER_S2, GM_SUN_M3_PER_S2
 from taubudget.physics.environment import environment_for

@@ -3,7 +3,6 @@
 import numpy as np
 import pytest
 from support.budgets import POINT_MASS, kepler_budget
-
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.constants import C2_M2_PER_S2, L_G
 from taubudget.physics.errors import PhysicsInputError

@@ -4,7 +4,6 @@ import numpy as np
 from skyfield.api import wgs84
 from skyfield.framelib import itrs
 from skyfield.sgp4lib import TEME
-
 from taubudget.physics.constants import GM_MOON_M3_PER_S2, GM_SUN_M3_PER_S2
 from taubudget.physics.ephemeris import ephemeris
 from taubudget.physics.frames import EarthOrientation

@@ -6,7 +6,6 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from sgp4.api import WGS72, Satrec
-
 from taubudget.physics.constants import GM_EARTH_TCG_M3_PER_S2, SECONDS_PER_DAY
 from taubudget.physics.kepler import elements_to_state, solve_kepler
 

@@ -3,7 +3,6 @@
 import socket
 
 import pytest
-
 from taubudget.physics import environment as env_mod
 from taubudget.physics import ephemeris as eph_mod
 from taubudget.physics.budget import BudgetInputs, compute_budget

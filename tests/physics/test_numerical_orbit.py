@@ -11,7 +11,6 @@ import math
 import numpy as np
 import pytest
 from support.budgets import POINT_MASS
-
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.constants import EGM2008_J, EGM2008_REFERENCE_RADIUS_M, L_G, SECONDS_PER_DAY
 from taubudget.physics.errors import PhysicsInputError

@@ -4,7 +4,6 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import kepler_budget
-
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.orbits import KeplerianOrbit
 from taubudget.physics.quadrature import integrate

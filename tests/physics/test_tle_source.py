@@ -4,7 +4,6 @@ import numpy as np
 import pytest
 from skyfield.api import EarthSatellite
 from support.budgets import LEO_TLE
-
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.environment import environment_for
 from taubudget.physics.errors import PhysicsInputError

@@ -11,7 +11,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 from support.budgets import LEO_TLE
-
 from taubudget.app.formats import build_format_source
 from taubudget.app.formats.common import MAX_TEXT_CHARS, FormatError
 from taubudget.app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, Sp3OrbitIn, TleFileOrbitIn

@@ -15,7 +15,6 @@ from skyfield.framelib import ICRS_to_J2000, itrs
 from skyfield.positionlib import Geocentric
 from skyfield.sgp4lib import TEME
 from support.budgets import LEO_TLE, POINT_MASS
-
 from taubudget.app.formats import build_format_source, format_sources
 from taubudget.app.formats.common import parse_epoch
 from taubudget.app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, TleFileOrbitIn

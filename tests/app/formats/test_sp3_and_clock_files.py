@@ -11,7 +11,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from taubudget.app.formats.rinex_clock import parse_rinex_clock
 from taubudget.app.formats.sp3 import clock_series, parse_sp3, sp3_source
 from taubudget.physics.clock_residuals import clock_residuals

@@ -10,7 +10,6 @@ et al. 1971, Table I).
 import allantools
 import numpy as np
 import pytest
-
 from taubudget.physics.clock import edf as edf_mod
 from taubudget.physics.clock import powerlaw, simulate
 from taubudget.physics.clock import stability as st

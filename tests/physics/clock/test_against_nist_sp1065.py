@@ -24,7 +24,6 @@ import pytest
 
 # NBS 9-point data and SP 1065 Table 30 / Riley Table II values (sources: module docstring).
 from support.nist_sp1065 import NBS9_Y, TABLE_30
-
 from taubudget.physics.clock import stability as st
 
 # (statistic, tau = 1, 10, 100), Riley Table III, the SP 1065 Table 31 data set.

@@ -11,7 +11,6 @@ import math
 import numpy as np
 import pytest
 from scipy.integrate import quad
-
 from taubudget.physics.clock import powerlaw
 
 QUADRATURE = 1e-6

@@ -16,7 +16,6 @@ import math
 
 import numpy as np
 import pytest
-
 from taubudget.physics.clock import ClockModel, simulate, time_error
 
 SEED = 4242

@@ -17,7 +17,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from support.budgets import LEO_TLE
-
 from taubudget.physics.constants import C_M_PER_S, EARTH_ROTATION_RATE_RAD_PER_S, WGS84_A_M
 from taubudget.physics.contacts import GroundStation, downlink, find_passes, sagnac_correction_s
 from taubudget.physics.environment import environment_for

@@ -13,7 +13,6 @@ import pytest
 from scipy.optimize import brentq
 from skyfield.api import EarthSatellite, wgs84
 from support.budgets import LEO_TLE
-
 from taubudget.physics.contacts import GroundStation, find_passes
 from taubudget.physics.environment import environment_for
 from taubudget.physics.orbits import TleOrbit

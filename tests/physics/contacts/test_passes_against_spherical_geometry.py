@@ -16,7 +16,6 @@ import math
 import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
-
 from taubudget.physics.constants import GM_EARTH_TCG_M3_PER_S2, WGS84_A_M
 from taubudget.physics.contacts import GroundStation, find_passes
 from taubudget.physics.environment import environment_for

@@ -16,7 +16,6 @@ import numpy as np
 import pytest
 from skyfield.api import EarthSatellite, wgs84
 from support.budgets import LEO_TLE
-
 from taubudget.physics.constants import C_M_PER_S, L_G, SECONDS_PER_DAY
 from taubudget.physics.contacts import GroundStation, downlink, find_passes
 from taubudget.physics.environment import environment_for

@@ -13,7 +13,6 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-
 from taubudget.physics.contacts import (
     Pass,
     SyncPolicy,
