@@ -147,7 +147,7 @@ def _deviation_lines(rows: list[dict]) -> list[str]:
 
 def cmd_stability(args) -> int:
     from .column_text import ColumnError, parse_column
-    from .service import stability_from_data
+    from .services.stability import stability_from_data
 
     try:
         if args.file == "-":
@@ -220,7 +220,7 @@ def _with_orbit_file(body, args):
 def cmd_budget(args) -> int:
     from .formats import FormatError
     from .schemas import BudgetRequest
-    from .service import budget_from_request
+    from .services.budget import budget_from_request
 
     try:
         body = _load_json(args.request)
@@ -270,7 +270,9 @@ def render_contacts(plan: dict) -> str:
 
 
 def cmd_contacts(args) -> int:
-    from .contacts import ContactPlanRequest, contact_plan_from_request, passes_csv
+    from .csv_format import passes_csv
+    from .schemas import ContactPlanRequest
+    from .services.contacts import contact_plan_from_request
 
     try:
         req = ContactPlanRequest.model_validate(_load_json(args.request))

@@ -164,3 +164,26 @@ def field_text(budget: dict, name: str) -> str:
     if value is None:
         raise MissingValue(name)
     return format_value(value)
+
+
+# --- Contact plans -------------------------------------------------------------------------
+
+PASS_COLUMNS = (
+    "station", "aos_utc", "los_utc", "culmination_utc", "duration_s", "max_elevation_deg",
+    "offset_at_aos_ns", "offset_at_los_ns", "light_time_us", "sagnac_correction_ns",
+    "fractional_frequency_shift", "used_for_sync",
+)
+
+
+def passes_csv(plan: dict) -> str:
+    """The pass table of a contact plan as CSV (RFC 4180), after '#' comment lines with the caution."""
+    header = [
+        "# taubudget contact plan; offsets are clock minus reference, free-running since the span start",
+        f"# caution: {plan['caution']}",
+        f"# span: {plan['start_utc']} .. {plan['end_utc']}",
+        f"# meets_budget: {format_value(plan['meets_budget'])}; "
+        f"worst_error_ns: {format_value(plan['worst_error_ns'])}; "
+        f"worst_gap_s: {format_value(plan['worst_gap_s'])}",
+    ]
+    rows = [list(PASS_COLUMNS)] + [[format_value(p[c]) for c in PASS_COLUMNS] for p in plan["passes"]]
+    return _render(header, rows)

@@ -17,7 +17,6 @@ from pydantic.json_schema import models_json_schema
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import ephemeris, timescale
 
-from . import contacts as contact_models
 from . import problems, schemas
 from .api import budgets, clock, contacts, health, reference
 from .deps import BodyTooLarge
@@ -45,8 +44,8 @@ _DOCUMENTED = [
     (schemas.Problem, "serialization"),
     (schemas.StabilityRequest, "validation"),
     (schemas.StabilityResponse, "serialization"),
-    (contact_models.ContactPlanRequest, "validation"),
-    (contact_models.ContactPlanResponse, "serialization"),
+    (schemas.ContactPlanRequest, "validation"),
+    (schemas.ContactPlanResponse, "serialization"),
 ]
 
 

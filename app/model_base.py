@@ -1,4 +1,4 @@
-"""Bases shared by the request models of app/schemas.py, app/formats/models.py and app/contacts.py."""
+"""Bases shared by the request and response models of app/schemas/ and app/formats/models.py."""
 
 from __future__ import annotations
 
@@ -9,6 +9,12 @@ class StrictModel(BaseModel):
     """Unknown fields are refused by name; NaN and infinities are not numbers here."""
 
     model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+
+
+class OpenModel(BaseModel):
+    """A response block: fields added later are documented as allowed rather than dropped."""
+
+    model_config = ConfigDict(extra="allow")
 
 
 class ZonalGravityModel(StrictModel):

@@ -33,7 +33,7 @@ from ..schemas import (
     BatchRequest,
     BudgetRequest,
 )
-from ..service import budget_from_request, estimate_nodes, merge_item
+from ..services.budget import budget_from_request, estimate_nodes, merge_item
 from . import openapi_doc as doc
 from . import uploads
 from .query import BudgetQuery, QueryConflict, to_request, with_parameters

@@ -19,7 +19,7 @@ from ..problems import (
     validation_problem,
 )
 from ..schemas import EXAMPLE_STABILITY_REQUEST, StabilityRequest
-from ..service import stability_from_data
+from ..services.stability import stability_from_data
 from . import openapi_doc as doc
 
 router = APIRouter(prefix="/v1", tags=["clock"])

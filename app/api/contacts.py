@@ -11,9 +11,11 @@ from fastapi.responses import JSONResponse, PlainTextResponse
 from pydantic import ValidationError
 
 from ..compute import ComputeDep
-from ..contacts import ContactPlanRequest, contact_plan_from_request, passes_csv
+from ..csv_format import passes_csv
 from ..deps import JsonBody, SettingsDep
 from ..problems import ProblemError, validation_errors, validation_problem
+from ..schemas import ContactPlanRequest
+from ..services.contacts import contact_plan_from_request
 from . import openapi_doc as doc
 
 router = APIRouter(prefix="/v1", tags=["contacts"])

@@ -1,0 +1,141 @@
+"""Contact plans: ``ContactPlanRequest`` (a budget request plus ground stations, a sync policy
+and a time-error budget) and the ``ContactPlanResponse`` blocks. Field names carry units and are a
+contract: add fields, never rename or drop one. Offsets are clock minus reference."""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field, model_validator
+
+from ..model_base import OpenModel as _Open
+from ..model_base import StrictModel as _Strict
+from .budget import BudgetRequest
+from .clock import ClockIn
+
+MAX_STATIONS = 50
+MAX_PASSES = 5000
+
+
+class StationIn(_Strict):
+    """A ground station on the WGS-84 ellipsoid."""
+
+    name: str = Field(min_length=1, max_length=80)
+    latitude_deg: float = Field(ge=-90, le=90, description="Geodetic latitude, deg")
+    longitude_deg: float = Field(ge=-180, le=360, description="Longitude, deg east")
+    height_m: float = Field(0.0, ge=-500, le=10_000, description="Height above the WGS-84 ellipsoid, m")
+    elevation_mask_deg: float = Field(10.0, ge=-5, le=89, description="Lowest usable elevation, deg")
+    geoid_undulation_m: float | None = Field(
+        None, ge=-120, le=120, description="Geoid height N for the station clock's own rate, m")
+
+
+class SyncPolicyIn(_Strict):
+    """Which contacts synchronise the satellite clock (a sync resets its time offset)."""
+
+    kind: Literal["every_pass", "every_nth_pass", "min_duration", "min_elevation", "fixed_interval"] = (
+        "every_pass")
+    every_n: int = Field(1, ge=1, le=10_000, description="every_nth_pass: sync at every Nth eligible pass")
+    min_duration_s: float = Field(0.0, ge=0, description="Only passes at least this long, s")
+    min_elevation_deg: float | None = Field(
+        None, ge=-5, le=90, description="Only passes culminating this high, deg")
+    interval_s: float | None = Field(
+        None, gt=0,
+        description="fixed_interval: first eligible contact once this long has run since the last sync, s")
+    sync_at: Literal["aos", "culmination", "los"] = "culmination"
+    reestimate_frequency: bool = Field(False, description="A sync also re-estimates the frequency offset")
+    frequency_residual_fractional: float = Field(
+        0.0, description="Fractional frequency offset left after a re-estimate (dimensionless)")
+
+    @model_validator(mode="after")
+    def _needs(self):
+        if self.kind == "fixed_interval" and self.interval_s is None:
+            raise ValueError("a fixed_interval policy needs interval_s")
+        if self.kind == "min_duration" and self.min_duration_s <= 0:
+            raise ValueError("a min_duration policy needs min_duration_s > 0")
+        if self.kind == "min_elevation" and self.min_elevation_deg is None:
+            raise ValueError("a min_elevation policy needs min_elevation_deg")
+        return self
+
+
+class ContactPlanRequest(BudgetRequest):
+    """A budget request plus ground stations, a sync policy and a time-error budget."""
+
+    stations: list[StationIn] = Field(min_length=1, max_length=MAX_STATIONS)
+    sync_policy: SyncPolicyIn = Field(default_factory=SyncPolicyIn)
+    clock: ClockIn | None = Field(None, description="Oscillator model (the budget's clock block); "
+                                  "none: relativity only")
+    time_error_budget_ns: float = Field(gt=0, description="Allowed |time error| of the k-sigma envelope, ns")
+    k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic error")
+    relativistic_offset: Literal["after_preset", "after_correction", "raw"] = Field(
+        "after_preset", description="Which relativistic offset the clock carries: after the frequency preset "
+        "(default), also after the user-segment eccentricity correction, or with no preset")
+
+    @model_validator(mode="after")
+    def _unique_names(self):
+        names = [s.name for s in self.stations]
+        if len(set(names)) != len(names):
+            raise ValueError("station names must be unique")
+        if self.orbit.type == "surface":
+            raise ValueError("a contact plan needs a satellite orbit (keplerian or tle), not a surface clock")
+        return self
+
+
+# --- Response models ---------------------------------------------------------------------
+
+
+class SignalPointOut(_Open):
+    time_utc: str
+    range_km: float
+    light_time_us: float = Field(description="GCRS light time incl. Shapiro delay, TCG microseconds")
+    sagnac_correction_ns: float = Field(description="2 omega A / c^2 for the Earth-fixed range, ns")
+    shapiro_delay_ps: float
+    range_rate_m_per_s: float
+    fractional_frequency_shift: float = Field(description="f_received/f_emitted - 1 seen by the station")
+    first_order_doppler_shift: float
+    gravitational_shift: float
+    time_dilation_shift: float
+
+
+class PassOut(_Open):
+    station: str
+    aos_utc: str
+    los_utc: str
+    culmination_utc: str
+    duration_s: float
+    max_elevation_deg: float
+    offset_at_aos_ns: float = Field(description="Free-running offset since the span start (no syncs), ns")
+    offset_at_los_ns: float
+    light_time_us: float = Field(description="At culmination")
+    sagnac_correction_ns: float = Field(description="At culmination")
+    fractional_frequency_shift: float = Field(description="At culmination")
+    aos_at_span_start: bool
+    los_at_span_end: bool
+    used_for_sync: bool
+    signal_path: dict[str, SignalPointOut]
+
+
+class SyncOut(_Open):
+    time_utc: str
+    station: str
+    pass_index: int
+    error_before_sync_ns: float
+    sigma_before_sync_ns: float
+    bound_before_sync_ns: float
+    time_since_previous_sync_s: float
+
+
+class ContactPlanResponse(_Open):
+    """Passes, syncs and whether the k-sigma time error stays inside the budget. Planning estimates."""
+
+    passes: list[PassOut]
+    syncs: list[SyncOut]
+    worst_error_ns: float = Field(description="Largest |error| + k sigma between syncs, ns")
+    worst_error_time_utc: str
+    worst_gap_s: float
+    meets_budget: bool
+    time_error_budget_ns: float
+    k_sigma: float
+    recommendation: dict
+    budget: dict
+    model: dict
+    caution: str

@@ -1,0 +1,79 @@
+"""The one registry of orbit types: a request's orbit block -> a physics orbit source.
+
+``ORBIT_BUILDERS`` maps each request model of the ``Orbit`` union (app/schemas/orbits.py, and the
+file formats of app/formats/models.py) to the function that builds its source. A new orbit type is
+one model plus one entry here. Builders raise ``PhysicsInputError`` naming the request field.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+from taubudget.physics.ephemeris import timescale
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.orbits import KeplerianOrbit, SurfaceClock, TleOrbit
+from taubudget.physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
+
+from ..formats import FORMAT_ORBITS, build_format_source
+from ..schemas.orbits import KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
+
+
+def _time(dt):
+    return timescale().from_datetime(dt)
+
+
+def _keplerian(orbit: KeplerianOrbitIn, prefix: str):
+    if orbit.center != "earth":
+        if orbit.j2_secular:
+            raise PhysicsInputError(f"{prefix}.j2_secular", True, "J2 secular drift is modelled for "
+                                    "Earth-centred orbits only")
+        return CentredKeplerianOrbit(
+            orbit.center, _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
+            orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
+            orbit.mean_anomaly_deg, reference_plane=orbit.reference_plane,
+        )
+    if orbit.reference_plane != "icrf_equator":
+        raise PhysicsInputError(f"{prefix}.reference_plane", orbit.reference_plane,
+                                "Earth-centred elements are referred to the GCRS equator")
+    return KeplerianOrbit(
+        _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
+        orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
+        orbit.mean_anomaly_deg, j2_secular=orbit.j2_secular,
+    )
+
+
+def _surface(orbit: SurfaceClockIn, prefix: str):
+    if orbit.center != "earth":
+        if prefix == "reference":
+            raise PhysicsInputError("reference.center", orbit.center, "a surface reference clock must be "
+                                    "on the Earth; for a lunar reference use \"lunar_surface\"")
+        if orbit.geoid_undulation_m is not None or orbit.orthometric_height_m is not None:
+            raise PhysicsInputError(f"{prefix}.geoid_undulation_m", orbit.geoid_undulation_m,
+                                    "geoid undulation and orthometric height apply to Earth clocks only")
+        return BodySurfaceClock(orbit.center, orbit.latitude_deg, orbit.longitude_deg, orbit.height_m)
+    return SurfaceClock(
+        orbit.latitude_deg, orbit.longitude_deg, orbit.height_m,
+        orbit.geoid_undulation_m, orbit.orthometric_height_m, field_prefix=prefix,
+    )
+
+
+def _tle(orbit: TleOrbitIn, prefix: str):
+    return TleOrbit(orbit.line1, orbit.line2, timescale(), orbit.name)
+
+
+ORBIT_BUILDERS: dict[type, Callable] = {
+    KeplerianOrbitIn: _keplerian,
+    TleOrbitIn: _tle,
+    SurfaceClockIn: _surface,
+    **{model: build_format_source for model in FORMAT_ORBITS},
+}
+"""Request model -> builder(orbit, prefix) of its physics source."""
+
+
+def build_source(orbit, prefix: str = "orbit"):
+    """The physics orbit source of a request's orbit block (``prefix``: its request path)."""
+    try:
+        builder = ORBIT_BUILDERS[type(orbit)]
+    except KeyError:  # pragma: no cover - the Orbit union and the registry are checked by a test
+        raise TypeError(f"unsupported orbit {type(orbit).__name__}") from None
+    return builder(orbit, prefix)
