@@ -354,8 +354,11 @@ def cmd_clock_residuals(args) -> int:
 def cmd_serve(args) -> int:
     import uvicorn
 
+    from .server import uvicorn_options
+    from .settings import get_settings
+
     uvicorn.run("taubudget.app.main:app", host=args.host, port=args.port, workers=args.workers,
-                log_level=args.log_level)
+                log_level=args.log_level, **uvicorn_options(get_settings()))
     return 0
 
 

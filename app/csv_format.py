@@ -16,6 +16,8 @@ from typing import Any
 from taubudget.physics.rate import TERM_NAMES
 from taubudget.physics.rate_bcrs import BCRS_TERM_NAMES
 
+from .csv_safety import safe_text
+
 SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",
     "mean_rate_us_per_day",
@@ -131,7 +133,7 @@ def _render(header: list[str], rows: list[list[str]]) -> str:
     for line in header:
         buf.write(line + _LINE)
     writer = csv.writer(buf, lineterminator=_LINE)
-    writer.writerows(rows)
+    writer.writerows([safe_text(cell) for cell in row] for row in rows)  # formula injection
     return buf.getvalue()
 
 

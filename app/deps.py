@@ -33,6 +33,38 @@ def _reject_constant(name: str):
     raise ValueError(f"{name} is not a JSON number (RFC 8259 has no NaN or Infinity)")
 
 
+MAX_JSON_DEPTH = 32
+"""Deepest nesting of arrays and objects in a request (a batch item's clock ADEV point is at
+depth 6). Deeper documents are refused before anything walks them recursively."""
+
+
+def json_depth(doc: Any) -> int:
+    """Nesting depth of a parsed JSON value (a scalar is 0), counted without recursion."""
+    deepest, stack = 0, [(doc, 1)]
+    while stack:
+        value, depth = stack.pop()
+        if isinstance(value, dict):
+            children = value.values()
+        elif isinstance(value, list):
+            children = value
+        else:
+            continue
+        deepest = max(deepest, depth)
+        if deepest > MAX_JSON_DEPTH:
+            return deepest
+        stack.extend((c, depth + 1) for c in children)
+    return deepest
+
+
+def too_deep(part: str | None = None) -> ProblemError:
+    where = f"Part {part!r} nests" if part else "The body nests"
+    err = {"pointer": "" if part is None else f"/{part}", "detail": f"nesting deeper than {MAX_JSON_DEPTH}"}
+    if part is not None:
+        err["part"] = part
+    return ProblemError(400, "Malformed JSON", f"{where} arrays or objects too deeply (more than "
+                        f"{MAX_JSON_DEPTH} deep); no request field needs that.", TYPE_MALFORMED_BODY, [err])
+
+
 def parse_json(raw: bytes) -> Any:
     """Parse a request body as JSON whatever its content type; malformed -> 400 problem."""
     if not raw.strip():
@@ -40,7 +72,7 @@ def parse_json(raw: bytes) -> Any:
                            TYPE_MALFORMED_BODY, [{"pointer": "", "detail": "empty body"}])
     try:
         text = raw.decode("utf-8-sig")
-        return json.loads(text, parse_constant=_reject_constant)
+        doc = json.loads(text, parse_constant=_reject_constant)
     except UnicodeDecodeError as exc:
         raise ProblemError(400, "Malformed body", f"The body is not UTF-8 text: {exc.reason} at "
                            f"byte {exc.start}.", TYPE_MALFORMED_BODY,
@@ -53,9 +85,10 @@ def parse_json(raw: bytes) -> Any:
         raise ProblemError(400, "Malformed JSON", f"The body is not valid JSON: {exc}.",
                            TYPE_MALFORMED_BODY, [{"pointer": "", "detail": str(exc)}]) from exc
     except RecursionError as exc:
-        raise ProblemError(400, "Malformed JSON", "The body nests arrays or objects too deeply to be "
-                           "a request.", TYPE_MALFORMED_BODY,
-                           [{"pointer": "", "detail": "nesting too deep"}]) from exc
+        raise too_deep() from exc
+    if json_depth(doc) > MAX_JSON_DEPTH:
+        raise too_deep()
+    return doc
 
 
 async def read_json_body(request: Request) -> Any:

@@ -18,6 +18,7 @@ from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import ephemeris, timescale
 
 from . import problems, schemas
+from .access import install_access_control, log_startup
 from .api import budgets, clock, contacts, health, reference
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
@@ -99,6 +100,7 @@ def _load_data(app: FastAPI) -> None:
 
 @asynccontextmanager
 async def lifespan(app: FastAPI):
+    log_startup(app.state.settings)
     await run_in_threadpool(_load_data, app)
     yield
 
@@ -126,6 +128,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.ephemeris_loaded = False
     problems.install(app)
     app.add_middleware(BodySizeLimit, max_bytes=settings.MAX_BODY_BYTES)
+    install_access_control(app, settings)  # API keys, then CORS outermost
     app.include_router(budgets.router)
     app.include_router(clock.router)
     app.include_router(contacts.router)

@@ -41,6 +41,9 @@ TYPE_TOO_LARGE = _TYPE_BASE + "limit-exceeded"
 TYPE_NOT_READY = _TYPE_BASE + "not-ready"
 TYPE_INTERNAL = _TYPE_BASE + "internal-error"
 TYPE_BUSY = _TYPE_BASE + "busy"
+TYPE_DEADLINE = _TYPE_BASE + "deadline-exceeded"
+TYPE_CANCELLED = _TYPE_BASE + "cancelled"
+TYPE_UNAUTHORIZED = _TYPE_BASE + "unauthorized"
 
 log = logging.getLogger("taubudget.problems")
 

@@ -23,6 +23,17 @@ class Settings(BaseSettings):
     MAX_CONCURRENT_COMPUTATIONS: int = 2  # per worker process: budgets, plans, stability tables
     COMPUTE_QUEUE_WAIT_SECONDS: float = 30.0  # then 503 with Retry-After
     MAX_NUMERICAL_REVOLUTIONS: int = 250  # DOP853 state-vector orbits: ~0.04 s per LEO revolution
+    # (counted from the state's epoch to the far end of the span, not only over the span)
+    COMPUTE_DEADLINE_SECONDS: float = 120.0  # one computation (a budget, a batch item, a plan); then 504
+    # Access control and browsers (deploy/SCALING.md): API keys by name, e.g.
+    # TAUBUDGET_API_KEYS='{"planning-desk": "<long random key>"}'; none set = open service.
+    API_KEYS: dict[str, str] = {}
+    CORS_ORIGINS: list[str] = []  # e.g. '["https://tool.example.org"]'; none by default
+    # Connections (taubudget serve): headers must arrive within HEADER_TIMEOUT_SECONDS, an idle
+    # keep-alive connection closes after KEEP_ALIVE_SECONDS, a header block is at most MAX_HEADER_BYTES.
+    HEADER_TIMEOUT_SECONDS: float = 10.0
+    KEEP_ALIVE_SECONDS: int = 5
+    MAX_HEADER_BYTES: int = 16_384
     DEFAULT_HOST: str = "127.0.0.1"
     DEFAULT_PORT: int = 8000
 

@@ -30,6 +30,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .cancel import checkpoint
 from .constants import (
     C2_M2_PER_S2,
     EARTH_EQUATORIAL_RADIUS_M,
@@ -499,6 +500,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
             f"{exc.max_nodes}; shorten the span or split it",
         ) from exc
 
+    checkpoint()  # between the integration and the fits and fine grids
     if not np.all(np.isfinite(q.values[0])):
         raise PhysicsInputError(
             "orbit", None, "the clock's rate is not finite at some nodes: check the inputs for "
@@ -651,6 +653,7 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
         }
     data["omitted_terms"] = data["model"]["omitted_terms"]
 
+    checkpoint()
     if inputs.series_step_s:
         n_pts = int(np.floor(span.duration_s / inputs.series_step_s)) + 1
         if n_pts + 1 > inputs.max_series_points:

@@ -29,6 +29,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.polynomial import legendre as leg
 
+from .cancel import checkpoint
+
 NODES_PER_PANEL = 20
 MAX_LEVELS = 14
 DEFAULT_TOL_FRACTIONAL = 1e-18
@@ -40,6 +42,10 @@ _TRANSFORM = (leg.legvander(_X, NODES_PER_PANEL - 1) * _W[:, None]).T * (
     (2 * np.arange(NODES_PER_PANEL) + 1) / 2.0
 )[:, None]
 
+
+NODE_BLOCK = 200_000
+"""Nodes evaluated per call of the integrand: bounds the memory of one refinement level and
+lets a cancelled computation stop between blocks (``physics.cancel.checkpoint``)."""
 
 _INT_PN_MAX = 2.0 / (2 * NODES_PER_PANEL + 1)
 """max over u of |integral_{-1}^{u} P_n| = |P_{n+1} - P_{n-1}|/(2n+1) <= 2/(2n+1)."""
@@ -143,6 +149,17 @@ def _panel_nodes(left: np.ndarray, right: np.ndarray) -> np.ndarray:
     return mid[:, None] + half[:, None] * _X[None, :]
 
 
+def _evaluate_in_blocks(fun, t_s: np.ndarray) -> np.ndarray:
+    """``fun(t_s)`` as (rows, N), called on blocks of at most NODE_BLOCK nodes, with a
+    cancellation checkpoint before each block."""
+    blocks = []
+    for i in range(0, t_s.size, NODE_BLOCK):
+        checkpoint()
+        vals = np.asarray(fun(t_s[i:i + NODE_BLOCK]), dtype=float)
+        blocks.append(vals[None, :] if vals.ndim == 1 else vals)
+    return blocks[0] if len(blocks) == 1 else np.concatenate(blocks, axis=1)
+
+
 def integrate(
     fun,
     t0_s: float,
@@ -157,7 +174,9 @@ def integrate(
     ``panel_s`` is the initial panel length (e.g. a quarter of the orbital
     period); ``breakpoints_s`` are extra edges (e.g. where the integrand has a
     kink). Row 0 drives refinement. Raises ``NodeBudgetExceeded`` before
-    evaluating more than ``max_nodes`` nodes in total.
+    evaluating more than ``max_nodes`` nodes in total, and
+    ``physics.cancel.ComputationCancelled`` between node blocks once the computation in
+    force is cancelled.
     """
     if not t1_s > t0_s:
         raise ValueError("the span must have positive length")
@@ -177,9 +196,7 @@ def integrate(
             raise NodeBudgetExceeded(spent + n_new, max_nodes)
         spent += n_new
         nodes = _panel_nodes(pending_l, pending_r)
-        vals = np.asarray(fun(nodes.reshape(-1)), dtype=float)
-        if vals.ndim == 1:
-            vals = vals[None, :]
+        vals = _evaluate_in_blocks(fun, nodes.reshape(-1))
         vals = vals.reshape(vals.shape[0], pending_l.size, NODES_PER_PANEL)
         coef = np.einsum("kj,rpj->rpk", _TRANSFORM, vals)  # (rows, P, n)
         h = pending_r - pending_l

@@ -24,15 +24,17 @@ Every error entry of a multipart request carries ``part``: the part its value ca
 from __future__ import annotations
 
 import json
+from contextlib import aclosing, asynccontextmanager
 from dataclasses import dataclass, field
 
 from fastapi import Request
 from fastapi.concurrency import run_in_threadpool
 from pydantic import ValidationError
 from starlette.datastructures import UploadFile
+from starlette.formparsers import MultiPartException, MultiPartParser
 from taubudget.physics.errors import PhysicsInputError
 
-from ..deps import parse_json
+from ..deps import MAX_JSON_DEPTH, json_depth, parse_json, too_deep
 from ..formats import FormatError, format_sources
 from ..formats.files import ORBIT_OPTIONS, orbit_from_file
 from ..formats.models import TEXT_ORBITS
@@ -87,10 +89,37 @@ def _decode(raw: bytes, part: str) -> str:
                        TYPE_MALFORMED_BODY) from exc
 
 
+class _InMemoryParser(MultiPartParser):
+    """starlette's multipart parser with file parts kept in memory: a part spools to a temporary
+    file only above ``spool_max_size``, which is set above the body limit, so an upload never
+    touches the disk (and needs no writable temporary directory)."""
+
+    def __init__(self, *args, spool_max_size: int, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.spool_max_size = spool_max_size
+
+
+@asynccontextmanager
+async def _form(request: Request):
+    """The multipart form, parsed in memory within the body limit (MAX_BODY_BYTES)."""
+    limit = request.app.state.settings.MAX_BODY_BYTES
+    try:
+        async with aclosing(request.stream()) as stream:
+            form = await _InMemoryParser(request.headers, stream, max_fields=MAX_FORM_FIELDS,
+                                         spool_max_size=limit + 1).parse()
+    except MultiPartException as exc:
+        raise _problem(400, "Malformed body", f"The multipart body is malformed: {exc.message}",
+                       [{"pointer": "", "detail": exc.message}], TYPE_MALFORMED_BODY) from exc
+    try:
+        yield form
+    finally:
+        await form.close()
+
+
 async def read_upload(request: Request, json_parts: tuple[str, ...]) -> Upload:
     """Read the parts; a body without any file part is a 400 naming what is missing."""
     up = Upload()
-    async with request.form(max_fields=MAX_FORM_FIELDS) as form:
+    async with _form(request) as form:
         files = [(k, v) for k, v in form.multi_items() if isinstance(v, UploadFile)]
         texts = [(k, v) for k, v in form.multi_items() if isinstance(v, str)]
         names = [k for k, _ in files + texts]
@@ -150,12 +179,17 @@ def _field_value(name: str, value: str):
     s = value.strip()
     if s[:1] in "{[":
         try:
-            return json.loads(s)
+            doc = json.loads(s)
         except json.JSONDecodeError as exc:
             raise _problem(400, "Malformed JSON", f"Form field {name!r} starts like JSON but is not: "
                            f"{exc.msg} at column {exc.colno}.",
                            [{"pointer": f"/{name}", "part": name, "detail": exc.msg}],
                            TYPE_MALFORMED_BODY) from exc
+        except RecursionError as exc:
+            raise too_deep(name) from exc
+        if json_depth(doc) > MAX_JSON_DEPTH:
+            raise too_deep(name)
+        return doc
     return value
 
 

@@ -83,6 +83,24 @@ class LineFinder:
         return 0
 
 
+MAX_XML_DEPTH = 32
+"""Deepest element nesting accepted in an XML message. An NDM nests 7 levels (ndm, oem, body,
+segment, data, stateVector, X); the readers walk the tree recursively, so a hostile file nested
+a thousand deep must be refused before they see it."""
+
+
+def _check_depth(root, what: str) -> None:
+    """FormatError when the tree nests deeper than MAX_XML_DEPTH (checked without recursion)."""
+    stack = [(root, 1)]
+    while stack:
+        el, depth = stack.pop()
+        if depth > MAX_XML_DEPTH:
+            raise FormatError(None, "XML", f"the {what} nests XML elements more than {MAX_XML_DEPTH} "
+                              f"deep (<{_local(el.tag)}> at depth {depth}); a navigation data message "
+                              "needs fewer than 10 levels")
+        stack.extend((c, depth + 1) for c in el)
+
+
 STATE_FIELDS = ("EPOCH", "X", "Y", "Z", "X_DOT", "Y_DOT", "Z_DOT", "X_DDOT", "Y_DDOT", "Z_DDOT")
 
 
@@ -93,13 +111,15 @@ def parse_xml(text: str, what: str):
     from defusedxml.ElementTree import ParseError, fromstring
 
     try:
-        return fromstring(text)
+        root = fromstring(text)
     except ParseError as exc:
         line = getattr(exc, "position", (None,))[0]
         raise FormatError(line, "XML", f"the {what} is not well-formed XML ({exc})") from None
     except DefusedXmlException as exc:
         raise FormatError(None, "XML", f"the {what} uses a forbidden XML construct "
                           f"({type(exc).__name__}: entities and DTDs are refused)") from None
+    _check_depth(root, what)
+    return root
 
 
 def xml_items(text: str, what: str, root=None, finder: LineFinder | None = None) -> list[Item]:

@@ -76,18 +76,26 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
 
 
 def _check_numerical_cost(source, span: Span, settings: Settings):
-    """Refuse up front a numerical propagation longer than MAX_NUMERICAL_REVOLUTIONS orbits."""
+    """Refuse up front a numerical propagation longer than MAX_NUMERICAL_REVOLUTIONS orbits,
+    counted from the state's epoch to the far end of the span (the integrator covers both)."""
     from taubudget.physics.orbits import NumericalOrbit
 
     if not isinstance(source, NumericalOrbit):
         return
-    revolutions = span.duration_s / source.period_s()
+    revolutions = source.propagation_revolutions(span)
     if revolutions > settings.MAX_NUMERICAL_REVOLUTIONS:
+        in_span = span.duration_s / source.period_s()
+        to_span = revolutions - in_span
+        prefix = source.field_prefix
+        field, value = ((f"{prefix}.epoch", source.describe()["epoch_utc"]) if to_span > in_span
+                        else ("end", round(span.duration_s / SECONDS_PER_DAY, 6)))
         raise PhysicsInputError(
-            "end", round(span.duration_s / SECONDS_PER_DAY, 6),
-            f"a state-vector orbit is integrated numerically, and this span covers {revolutions:.0f} "
-            f"revolutions, above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
-            "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); shorten the span or give mean elements (TLE/OMM)",
+            field, value,
+            f"a state-vector orbit is integrated numerically from its epoch: an estimated "
+            f"{revolutions:.0f} revolutions ({to_span:.0f} from the epoch to the span, {in_span:.0f} "
+            f"over it), above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
+            "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); give a state nearer the span, shorten the span, "
+            "or give mean elements (TLE/OMM)",
         )
 
 

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
+from ..cancel import checkpoint
 from ..errors import PhysicsInputError
 from ..orbits import SurfaceClock
 
@@ -157,9 +158,11 @@ def find_passes(source, span, stations, orientation=None, step_s: float | None =
 
     out: list[Pass] = []
     for k, sta in enumerate(stations):
+        checkpoint()
         mask = sta.elevation_mask_deg
 
         def g(t, sta=sta, mask=mask):
+            checkpoint()  # each root search is a scalar loop
             return float(elevation_deg(satellite_itrs_m(source, span, [t], orientation), sta)[0]) - mask
 
         f = elevation_deg(sat, sta) - mask

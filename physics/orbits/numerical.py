@@ -49,6 +49,7 @@ import math
 import numpy as np
 from scipy.integrate import solve_ivp
 
+from ..cancel import checkpoint
 from ..constants import (
     EARTH_EQUATORIAL_RADIUS_M,
     EGM2008_J,
@@ -75,6 +76,9 @@ DEFAULT_ZONAL_DEGREE = MAX_ZONAL_DEGREE
 MAX_PROPAGATION_DAYS = 400.0
 """Longest interval between the epoch and a node; beyond it the force model's omissions
 (drag, radiation pressure, tesserals) make a numerically propagated state meaningless."""
+
+CHECKPOINT_EVERY_CALLS = 512
+"""Right-hand-side calls between cancellation checkpoints (~5 ms of integration)."""
 
 CODE_OUTSIDE = 1
 CODE_MESSAGES = {CODE_OUTSIDE: "node outside the propagated interval"}
@@ -166,6 +170,21 @@ def osculating_elements(r_m: np.ndarray, v_m_per_s: np.ndarray, gm_m3_per_s2: fl
     return a, float(np.linalg.norm(e_vec)), inc
 
 
+def _with_checkpoints(rhs):
+    """``rhs`` that checks for cancellation every CHECKPOINT_EVERY_CALLS calls: a long
+    propagation stops soon after its deadline or its caller's cancellation."""
+    calls = 0
+
+    def wrapped(tau, y):
+        nonlocal calls
+        calls += 1
+        if calls % CHECKPOINT_EVERY_CALLS == 0:
+            checkpoint()
+        return rhs(tau, y)
+
+    return wrapped
+
+
 class _UniformCubic:
     """Fast scalar evaluation of a ``CubicSpline`` built on a uniform grid."""
 
@@ -242,6 +261,16 @@ class NumericalOrbit(OrbitSource):
         """Osculating two-body period at the epoch, s (sizes the panels; not the nodal period)."""
         return 2.0 * math.pi * math.sqrt(self.a_m**3 / self.gm)
 
+    def propagation_s(self, span) -> float:
+        """TT seconds the integrator must cover for ``span``: from the state's epoch to the far
+        end of the span (the span itself, plus the stretch between the epoch and the span)."""
+        epoch_s = float(span.seconds_after_start(self._epoch))
+        return max(float(span.duration_s), epoch_s) - min(0.0, epoch_s)
+
+    def propagation_revolutions(self, span) -> float:
+        """Orbits the integrator must follow for ``span`` (its cost: ~constant steps per orbit)."""
+        return self.propagation_s(span) / self.period_s()
+
     # --- propagation ---------------------------------------------------------------
 
     def _rhs_factory(self, env, epoch_tt_s: float):
@@ -300,7 +329,8 @@ class NumericalOrbit(OrbitSource):
         env_span = Span(span.times(lo - margin), (hi - lo) + 2 * margin)
         env = environment_for(env_span) if (self.sun or self.moon or self.zonal_degree >= 2) else None
         epoch_env_s = epoch_s - (lo - margin)
-        rhs = self._rhs_factory(env, epoch_env_s) if env is not None else self._rhs_factory_point()
+        rhs = _with_checkpoints(
+            self._rhs_factory(env, epoch_env_s) if env is not None else self._rhs_factory_point())
         y0 = np.concatenate([self.r0_m, self.v0_m_per_s])
         atol = np.array([ATOL_POSITION_M] * 3 + [ATOL_VELOCITY_M_PER_S] * 3)
         inv = 1.0 / (1.0 - L_G)
