@@ -16,7 +16,7 @@ from typing import Any
 from taubudget.physics.rate import TERM_NAMES
 from taubudget.physics.rate_bcrs import BCRS_TERM_NAMES
 
-from .csv_safety import safe_text
+from .csv_safety import plain_text, safe_text
 
 SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",
@@ -94,15 +94,9 @@ def lookup(budget: dict, name: str) -> Any:
 
 def format_value(value: Any) -> str:
     """Text for one CSV cell or text/plain answer, at full double precision."""
-    if value is None:
-        return ""
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float):
-        return repr(value)
     if isinstance(value, dict):
         return ";".join(f"{k}={format_value(v)}" for k, v in value.items())
-    return str(value)
+    return plain_text(value)
 
 
 def summary_rows(budget: dict) -> list[tuple[str, Any]]:

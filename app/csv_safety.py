@@ -31,18 +31,21 @@ def safe_text(text: str) -> str:
     return text
 
 
-def safe_cell(value: Any) -> str:
-    """The text of one CSV cell: numbers at full precision, booleans as true/false, None as
-    empty, any other value as text neutralised by ``safe_text``."""
+def plain_text(value: Any) -> str:
+    """A scalar as text: floats at full double precision (``repr``), booleans as true/false,
+    None as empty, anything else as ``str``."""
     if value is None:
         return ""
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, float):
         return repr(value)
-    if isinstance(value, int):
-        return str(value)
-    return safe_text(str(value))
+    return str(value)
+
+
+def safe_cell(value: Any) -> str:
+    """The text of one CSV cell: ``plain_text`` neutralised by ``safe_text`` (numbers pass)."""
+    return safe_text(plain_text(value))
 
 
 def safe_row(values: Iterable[Any]) -> list[str]:
