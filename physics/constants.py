@@ -200,3 +200,20 @@ MARS_SIDEREAL_PERIOD_S = 686.980 * 86_400.0
 
 OBLIQUITY_J2000_RAD = 84_381.406 / 3600.0 * math.pi / 180.0
 """Mean obliquity of the ecliptic at J2000.0, rad (IAU 2006 precession, TN36 eq. 5.40)."""
+
+# --- Oscillator classes (typical figures from the literature) -------------------
+
+DAYS_PER_MONTH = 365.25 / 12.0
+"""Mean days per month (Julian year / 12), to turn a per-month ageing figure into per day."""
+
+# Chip-scale atomic clock, figures from the published literature (typical values):
+CSAC_ADEV_AT_1S = 2.4e-10
+"""Short-term instability 2.4e-10 / sqrt(tau) of a chip-scale atomic frequency reference (Kitching,
+Knappe, Liew et al., "Chip-Scale Atomic Frequency References: Fabrication and Performance",
+19th European Frequency and Time Forum, Besancon, 2005; NIST publication)."""
+CSAC_ADEV_AT_1000S = 1e-11
+"""ADEV about 1e-11 at 1000 s of averaging for chip-scale atomic clocks (Martinez, Li, Staron,
+Kitching, Raman, McGehee, "A chip-scale atomic beam clock", Nature Communications 14, 3501
+(2023), doi:10.1038/s41467-023-39166-1, introduction)."""
+CSAC_DRIFT_PER_MONTH = 1e-9
+"""Frequency drift of about 1e-9 per month beyond 1000 s (Martinez et al. 2023, as above)."""
