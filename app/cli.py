@@ -101,11 +101,15 @@ def _clock_rows(ce: dict, width: int) -> list[str]:
         (f"  {ce['k_sigma']:g}-sigma bound", f"{ce['k_sigma_bound_ns']:.6f} ns"),
     ]
     if ce.get("time_error_budget_ns") is not None:
-        if ce["budget_reached_within_span"]:
-            free = f"{ce['max_free_running_s']:.1f} s ({ce['max_free_running_s'] / 3600:.3f} h)"
+        t_free = ce["max_free_running_s"]
+        if t_free is None:
+            horizon_d = (ce.get("free_running_search_horizon_s") or ce["elapsed_s"]) / 86400
+            free = f"budget not reached within {horizon_d:g} d"
         else:
-            free = "budget not reached within the span"
+            free = f"{t_free:.1f} s ({t_free / 3600:.3f} h)"
         rows.append((f"max free-running ({ce['time_error_budget_ns']:g} ns)", free))
+        if ce.get("max_free_running_beyond_span"):
+            rows.append(("", "beyond the span: relativistic residual continued from its fit"))
     w = max(width, *(len(k) for k, _ in rows))
     return ["clock error (clock minus reference, sync at the span start):"] + [
         f"{k:<{w}}  {v}".rstrip() for k, v in rows]

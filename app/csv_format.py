@@ -61,6 +61,7 @@ CLOCK_SUMMARY_FIELDS: tuple[str, ...] = (
     "clock_error.time_error_budget_ns",
     "clock_error.max_free_running_s",
     "clock_error.budget_reached_within_span",
+    "clock_error.max_free_running_beyond_span",
     "clock_error.clock_model.name",
 )
 """Also accepted by ``field=`` and listed in the summary when the request has a clock."""

@@ -416,6 +416,7 @@ class Budget:
     _ecc_scale: float = 0.0
     _rv0: float = 0.0
     _rv_row: int = -1
+    orbital_period_s: float | None = None
 
     def to_dict(self) -> dict:
         return self.data
@@ -686,4 +687,4 @@ def compute_budget(inputs: BudgetInputs) -> Budget:
     data["warnings"] = warnings
     data["caution"] = CAUTION
     return Budget(data, q.node_count, q, float(rate_vs_tt), ecc_scale, float(rv0),
-                  rows_names.index("r_dot_v"))
+                  rows_names.index("r_dot_v"), orbital_period_s=period)

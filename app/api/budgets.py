@@ -236,8 +236,9 @@ _FIELD_HINTS = {
     **{name: "it needs clock_preset" for name in csv_format.CLOCK_SUMMARY_FIELDS},
     "clock_error.time_error_budget_ns": "it needs clock_preset and time_error_budget_ns",
     "clock_error.budget_reached_within_span": "it needs clock_preset and time_error_budget_ns",
+    "clock_error.max_free_running_beyond_span": "it needs clock_preset and time_error_budget_ns",
     "clock_error.max_free_running_s": "it needs clock_preset and time_error_budget_ns, and the k-sigma "
-    "bound must reach the budget within the span (see clock_error.budget_reached_within_span)",
+    "bound must reach the budget within the search horizon (clock_error.free_running_search_horizon_s)",
 }
 
 

@@ -94,8 +94,17 @@ class ClockErrorOut(_Open):
     time_error_budget_ns: float | None
     max_free_running_s: float | None = Field(
         description="Longest time after the sync before the k-sigma bound reaches the budget, s; "
-        "null when not asked or not reached within the span")
-    budget_reached_within_span: bool | None
+        "it may exceed the span (see max_free_running_beyond_span); null when not asked or not "
+        "reached within free_running_search_horizon_s")
+    budget_reached_within_span: bool | None = Field(
+        description="True when the budget is reached inside the span (exact relativistic residual)")
+    max_free_running_beyond_span: bool | None = Field(
+        None, description="True when max_free_running_s lies past the span, where the relativistic "
+        "residual is continued from its fitted line and orbital harmonics (an extrapolation)")
+    free_running_search_horizon_s: float | None = Field(
+        None, description="How far past the sync the free-running search looked, s")
+    max_free_running_basis: str | None = Field(
+        None, description="How max_free_running_s was found, in words")
     clock_model: ClockModelOut
     series: ClockSeriesOut | None
     note: str

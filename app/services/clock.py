@@ -92,7 +92,7 @@ def _model_out(c: ClockIn, model) -> dict:
 
 def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
     """The ``clock_error`` block: relativistic residual plus the oscillator, after a sync at t = 0."""
-    from taubudget.physics.timing_budget import combined_max_free_running_s, combined_time_error
+    from taubudget.physics.timing_budget import combined_time_error, free_running_time
 
     model = clock_model(req.clock) if model is None else model
     if req.apply_eccentricity_correction:
@@ -121,11 +121,14 @@ def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
         "note": CLOCK_NOTE,
     }
     if req.time_error_budget_ns is not None:
-        t_free = combined_max_free_running_s(residual, model, req.time_error_budget_ns * 1e-9,
-                                             req.k_sigma, t_end)
-        reached = math.isfinite(t_free)
-        out["max_free_running_s"] = t_free if reached else None
-        out["budget_reached_within_span"] = reached
+        found = free_running_time(residual, model, req.time_error_budget_ns * 1e-9, req.k_sigma,
+                                  t_end, budget.orbital_period_s)
+        reached = math.isfinite(found.t_s)
+        out["max_free_running_s"] = found.t_s if reached else None
+        out["budget_reached_within_span"] = found.within_span
+        out["max_free_running_beyond_span"] = reached and not found.within_span
+        out["free_running_search_horizon_s"] = found.horizon_s
+        out["max_free_running_basis"] = _free_running_basis(found, residual_name)
     if req.monte_carlo_runs is not None:
         out["exceedance"] = _exceedance(req, model, residual, t_end)
     series = budget.data.get("series")
@@ -139,6 +142,23 @@ def clock_error(req: BudgetRequest, budget, span: Span, model=None) -> dict:
             "bound_ns": (s.bound_s * 1e9).tolist(),
         }
     return out
+
+
+def _free_running_basis(found, residual_name: str) -> str:
+    """One sentence on how max_free_running_s was found (inside the span, or past it)."""
+    days = found.span_s / 86_400.0
+    if found.continuation is None:
+        return (f"found within the {days:g}-day span with the integrated relativistic residual "
+                f"({residual_name})")
+    c = found.continuation
+    fit = "a fitted line" + (f" and {c.harmonics} harmonics of the {c.period_s:.1f} s orbital period"
+                             if c.harmonics else "")
+    where = ("beyond the span" if math.isfinite(found.t_s)
+             else f"not reached within {found.horizon_s / 86_400.0:g} days")
+    return (f"{where}: past the {days:g}-day span the relativistic residual ({residual_name}) is "
+            f"continued from {fit}, fitted over the span (largest misfit {c.misfit_s * 1e9:.3g} ns, "
+            "added as a margin); the clock model is analytic. Assumes the orbit keeps its "
+            "behaviour past the span (no manoeuvres)")
 
 
 MONTE_CARLO_MAX_SAMPLES = 4_000_000

@@ -137,11 +137,55 @@ def test_max_free_running_is_where_the_bound_reaches_the_budget(client, correcte
         assert bound_ns(t) < budget_ns
 
 
-def test_budget_not_reached_within_the_span(client):
+def test_budget_not_reached_within_the_span_is_found_beyond_it(client):
+    # 1 ms is reached after ~1.8 years (ageing dominates), far past the 1-day span.
     ce = _post(client, _body(time_error_budget_ns=1e6))["clock_error"]
+    assert ce["budget_reached_within_span"] is False
+    assert ce["max_free_running_beyond_span"] is True
+    assert ce["k_sigma_bound_ns"] < 1e6
+    assert "continued from a fitted line and 4 harmonics" in ce["max_free_running_basis"]
+    t = ce["max_free_running_s"]
+    assert t > 300 * DAY_S
+    # The residual past the span is ps-level: the closed-form clock envelope crosses there too.
+    closed_ns = (abs(_clock_det_s(t)) + 3.0 * _sigma_closed_form_s(t)) * 1e9
+    assert closed_ns == pytest.approx(1e6, rel=1e-6)
+
+
+def test_budget_beyond_the_search_horizon_is_null(client):
+    ce = _post(client, _body(time_error_budget_ns=1e12))["clock_error"]
     assert ce["max_free_running_s"] is None
     assert ce["budget_reached_within_span"] is False
-    assert ce["k_sigma_bound_ns"] < 1e6
+    assert ce["max_free_running_beyond_span"] is False
+    assert "not reached within 3652.5 days" in ce["max_free_running_basis"]
+
+
+# sample_orbits/meo_navigation.json over 1 day instead of 7: the 7-day run crosses 10 ns at
+# about 32 h, so a 1-day span used to answer "not reached". The closed-form envelope of the
+# preset (module docstring) with the file's x0 = 1.5 ns and y0 = 2e-14 crosses 10 ns at 32.08 h.
+RESIDUAL_SHARE = 0.01  # the ps-level relativistic residual and fit margin move it < 1 %
+
+
+def _meo_nav_closed_form_s() -> float:
+    from scipy.optimize import brentq
+
+    def excess(t):
+        det = 1.5e-9 + 2e-14 * t + 0.5 * RUBIDIUM_DRIFT_PER_DAY / DAY_S * t**2
+        return det + 3.0 * _sigma_closed_form_s(t) - 10e-9
+    return brentq(excess, 1.0, 30 * DAY_S, xtol=1e-6)
+
+
+def test_one_day_span_finds_the_32_hour_free_running_time(client):
+    from pathlib import Path
+    body = json.loads((Path(__file__).parents[2] / "sample_orbits" / "meo_navigation.json").read_text())
+    week = _post(client, body)["clock_error"]
+    body["end"] = "2027-03-02T00:00:00Z"
+    body.pop("series_step_s")
+    day = _post(client, body)["clock_error"]
+    assert week["budget_reached_within_span"] is True and week["max_free_running_beyond_span"] is False
+    assert day["budget_reached_within_span"] is False and day["max_free_running_beyond_span"] is True
+    assert _meo_nav_closed_form_s() / 3600 == pytest.approx(32.08, abs=0.01)
+    assert day["max_free_running_s"] == pytest.approx(_meo_nav_closed_form_s(), rel=RESIDUAL_SHARE)
+    assert day["max_free_running_s"] == pytest.approx(week["max_free_running_s"], rel=RESIDUAL_SHARE)
 
 
 def test_sync_offset_beyond_the_budget_leaves_no_free_running(client):
