@@ -50,6 +50,13 @@ L_C = 1.48082686741e-8
 W0_M2_PER_S2 = 62_636_856.0
 """Potential of the geoid, m^2/s^2 (TN36 Table 1.1; L_G = W0/c^2)."""
 
+TT_MINUS_TAI_S = 32.184
+"""TT - TAI, s (defining; IAU 1991 Resolution A4, TN36 section 10.1)."""
+
+TAI_MINUS_GPS_S = 19.0
+"""TAI - GPS time, s (GPS time began at 1980 Jan 6.0 UTC, when TAI - UTC was 19 s; IS-GPS-200
+section 3.3.4)."""
+
 T0_JD_TT = 2443144.5003725
 """TT Julian date of 1977 Jan 1.0 TAI, when TT, TCG and TCB agree (TN36 eq. 10.1-10.3)."""
 
@@ -217,3 +224,28 @@ Kitching, Raman, McGehee, "A chip-scale atomic beam clock", Nature Communication
 (2023), doi:10.1038/s41467-023-39166-1, introduction)."""
 CSAC_DRIFT_PER_MONTH = 1e-9
 """Frequency drift of about 1e-9 per month beyond 1000 s (Martinez et al. 2023, as above)."""
+
+# --- Sizes used only to state what the model omits (orders of magnitude) -------
+
+MEAN_MOON_DISTANCE_M = 384_400e3
+"""Mean Earth-Moon distance, m (common practice)."""
+
+VENUS_CLOSEST_DISTANCE_M = 4.1e10
+"""Earth-Venus distance near inferior conjunction, m (common practice; ~0.27 au)."""
+
+EGM2008_C22_S22_NORMALIZED = 2.8e-6
+"""Size of the normalised degree-2 sectoral coefficients sqrt(C22^2 + S22^2) of EGM2008,
+dimensionless (from memory; only sizes an omitted term)."""
+
+MOON_J2 = 2.03e-4
+"""Lunar J2, dimensionless (common practice; only sizes an omitted term)."""
+
+MARS_J2 = 1.96e-3
+"""Mars J2, dimensionless (common practice; only sizes an omitted term)."""
+
+GEOID_UNDULATION_MAX_M = 107.0
+"""Largest |geoid height| above the ellipsoid, m (common practice; EGM2008 spans about -107 to
++86 m)."""
+
+NOMINAL_GRAVITY_M_PER_S2 = 9.81
+"""Surface gravity to turn a height into a potential, m/s^2 (common practice)."""

@@ -33,9 +33,8 @@ from .constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2, GRS80_GM_M3_PER_S2,
 from .potential.earth import earth_potential
 from .potential.normal import normal_gravitational_potential, normal_gravity_on_ellipsoid
 from .potential.tidal import BODY_GM_M3_PER_S2, tidal_potential
+from .timescales import rate_between
 
-TT_RATE_REFERENCES = ("TT", "TAI", "GPS")
-COORDINATE_REFERENCES = TT_RATE_REFERENCES + ("TCG",)
 TERM_NAMES = ("velocity", "monopole", "zonal", "tidal", "reference_scale", "reference_clock")
 
 _INV_1_MINUS_LG = 1.0 / (1.0 - L_G)
@@ -123,10 +122,10 @@ def integrand_terms(source, reference, t_s, gravity: GravityModel, env) -> NodeR
     clock = clock_terms_vs_tt(source, t_s, gravity, env)
     n = len(t_s)
     if isinstance(reference, str):
-        if reference not in COORDINATE_REFERENCES:
-            raise ValueError(f"unknown reference {reference!r}")
-        ref_scale = TCG_RATE_AGAINST_TT if reference in TT_RATE_REFERENCES else 0.0
-        clock.terms["reference_scale"] = np.full(n, ref_scale)
+        # The clock's terms are per TCG second scaled to TT; the reference scale's own rate against
+        # TCG comes from the time-scale table (TT, TAI, GPS: -L_G; TCG: 0).
+        y_ref_vs_tcg = rate_between(reference, "TCG")
+        clock.terms["reference_scale"] = np.full(n, -y_ref_vs_tcg * _INV_1_MINUS_LG)
         clock.terms["reference_clock"] = np.zeros(n)
     else:
         ref = clock_terms_vs_tt(reference, t_s, gravity, env)

@@ -29,10 +29,11 @@ from __future__ import annotations
 import numpy as np
 
 from .body_rotation import MOON_ROTATION_RATE_RAD_PER_S
-from .constants import C2_M2_PER_S2, GM_MOON_M3_PER_S2, L_B, L_G, MOON_MEAN_RADIUS_M
+from .constants import C2_M2_PER_S2, GM_MOON_M3_PER_S2, L_G, MOON_MEAN_RADIUS_M
 from .potential.earth import earth_potential
 from .rate import NodeRates, ground_clock_earth_potential
 from .solar_system import GM_M3_PER_S2, PLANETS
+from .timescales import rate_between
 
 BCRS_TERM_NAMES = ("velocity", "sun", "earth", "moon", "planets", "time_scale", "reference")
 BCRS_REFERENCES = ("TT", "TAI", "GPS", "TCG", "TCB", "TDB", "lunar_surface")
@@ -68,18 +69,15 @@ def lunar_surface_rate_tcb(ss, t_s, gravity) -> np.ndarray:
 
 
 def reference_rate_tt(reference: str, d: np.ndarray, ss, t_s, gravity) -> np.ndarray:
-    """y_ref = d(reference)/dTT - 1 at the nodes."""
-    if reference in ("TT", "TAI", "GPS"):
-        return np.zeros_like(d)
-    if reference == "TCG":
-        return np.full_like(d, L_G / (1 - L_G))
-    if reference == "TCB":
-        return -d / (1 + d)
-    if reference == "TDB":
-        return (-L_B - d) / (1 + d)
+    """y_ref = d(reference)/dTT - 1 at the nodes, from the time-scale table.
+
+    The table's position-dependent hops are supplied here: d(TCG)/d(TCB) - 1 along the geocentre,
+    from d = dTT/dTCB - 1 (TT = TCG (1 - L_G)), and the lunar reference clock's rate against TCB.
+    """
+    hops = {"TCG": (d + L_G) / (1.0 - L_G)}
     if reference == "lunar_surface":
-        return (lunar_surface_rate_tcb(ss, t_s, gravity) - d) / (1 + d)
-    raise ValueError(f"unknown reference {reference!r}")
+        hops["lunar_surface"] = lunar_surface_rate_tcb(ss, t_s, gravity)
+    return np.broadcast_to(rate_between(reference, "TT", hops), d.shape).astype(float)
 
 
 POSITION_TERM_RANGE_M = 2.0e9

@@ -23,7 +23,7 @@ into GCRS vectors:
   GCRS and the velocity given the Earth's spin, v_gcrs = R v_itrf + omega x r
   (``EarthOrientation.itrs_to_gcrs``). Polar motion is not in the builtin
   timescale, which moves GCRS positions by up to ~15 m at GPS radius but changes
-  the rate by < 1e-19 (physics/frames.py).
+  the rate by < 1e-19 (physics/frames/orientation.py).
 
 Anything else (TOD, MOD, ...) is refused by name.
 """

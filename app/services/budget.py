@@ -15,6 +15,7 @@ from taubudget.physics.orbits import SurfaceClock
 from taubudget.physics.rate import GravityModel
 from taubudget.physics.span import Span
 
+from ..present.budget import budget as present_budget
 from ..schemas import BudgetRequest, SurfaceClockIn
 from ..settings import Settings, get_settings
 from .clock import clock_error, clock_model
@@ -123,14 +124,10 @@ def budget_from_request(req: BudgetRequest, settings: Settings | None = None, so
     if req.monte_carlo_runs is not None and req.time_error_budget_ns is None:
         raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
                                 "a Monte Carlo exceedance needs time_error_budget_ns")
-    budget = budget_mod.compute_budget(inputs)
-    out = budget.to_dict()
-    out["reference"] = req.reference if isinstance(req.reference, str) else req.reference.model_dump()
-    out["start_utc"] = inputs.span.utc_iso(0.0)[0]
-    out["end_utc"] = inputs.span.utc_iso(inputs.span.duration_s)[0]
-    out["span_s"] = inputs.span.duration_s
+    result = budget_mod.compute_budget(inputs)
+    out = present_budget(result, req.reference)
     if model is not None:
-        out["clock_error"] = clock_error(req, budget, inputs.span, model)
+        out["clock_error"] = clock_error(req, result, model)
     return out
 
 

@@ -7,7 +7,7 @@
 from __future__ import annotations
 
 import numpy as np
-from taubudget.physics.budget import CAUTION, compute_budget
+from taubudget.physics.budget import compute_budget
 from taubudget.physics.clock import ClockModel
 from taubudget.physics.contacts import (
     GroundStation,
@@ -26,6 +26,7 @@ from taubudget.physics.contacts import (
 from taubudget.physics.environment import environment_for
 from taubudget.physics.errors import PhysicsInputError
 
+from ..present import contacts as present_contacts
 from ..schemas.contacts import MAX_PASSES, ContactPlanRequest
 from ..settings import Settings, get_settings
 from .budget import budget_inputs
@@ -43,26 +44,6 @@ def _residual_fn(budget, which: str):
     if which == "raw":
         return lambda t: budget.offset_s(np.atleast_1d(np.asarray(t, dtype=float)))
     return budget.after_preset_s
-
-
-def _signal_points(path, span) -> dict:
-    names = ("aos", "culmination", "los")
-    utc = span.utc_iso(path.reception_s)
-    return {
-        n: {
-            "time_utc": utc[i],
-            "range_km": float(path.range_m[i] / 1e3),
-            "light_time_us": float(path.light_time_s[i] * 1e6),
-            "sagnac_correction_ns": float(path.sagnac_correction_s[i] * 1e9),
-            "shapiro_delay_ps": float(path.shapiro_delay_s[i] * 1e12),
-            "range_rate_m_per_s": float(path.range_rate_m_per_s[i]),
-            "fractional_frequency_shift": float(path.fractional_frequency_shift[i]),
-            "first_order_doppler_shift": float(path.first_order_doppler_shift[i]),
-            "gravitational_shift": float(path.gravitational_shift[i]),
-            "time_dilation_shift": float(path.time_dilation_shift[i]),
-        }
-        for i, n in enumerate(names)
-    }
 
 
 def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None = None) -> dict:
@@ -107,7 +88,7 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
 
     off_aos, off_los = free_running(aos), free_running(los)
 
-    paths: dict[int, dict] = {}
+    paths: dict = {}
     for k_sta, sta in enumerate(stations):
         idx = [i for i, p in enumerate(passes) if p.station_index == k_sta]
         if not idx:
@@ -116,7 +97,7 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
         path = downlink(src, sta, span, t_r, env, inputs.gravity)
         for j, i in enumerate(idx):
             sub = type(path)(**{f: getattr(path, f)[3 * j:3 * j + 3] for f in path.__dataclass_fields__})
-            paths[i] = _signal_points(sub, span)
+            paths[i] = sub
 
     sync_idx = select_sync_passes(passes, policy)
     sync_t = np.array([contact_time_s(passes[i], policy.sync_at) for i in sync_idx])
@@ -127,77 +108,6 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
     greedy = greedy_syncs(cand_t, span.duration_s, err, residual, k, budget_s, grid)
     stride = largest_stride_meeting_budget(cand_t, span.duration_s, err, residual, k, budget_s, grid_s=grid)
 
-    used = set(sync_idx)
-    pass_rows = []
-    for i, p in enumerate(passes):
-        sp = paths[i]
-        times = span.utc_iso([p.aos_s, p.los_s, p.culmination_s])
-        pass_rows.append({
-            "station": p.station,
-            "aos_utc": times[0], "los_utc": times[1], "culmination_utc": times[2],
-            "duration_s": p.duration_s, "max_elevation_deg": p.max_elevation_deg,
-            "offset_at_aos_ns": float(off_aos[i] * 1e9), "offset_at_los_ns": float(off_los[i] * 1e9),
-            "light_time_us": sp["culmination"]["light_time_us"],
-            "sagnac_correction_ns": sp["culmination"]["sagnac_correction_ns"],
-            "fractional_frequency_shift": sp["culmination"]["fractional_frequency_shift"],
-            "aos_at_span_start": p.aos_at_span_start, "los_at_span_end": p.los_at_span_end,
-            "used_for_sync": i in used,
-            "signal_path": sp,
-        })
-    order = np.argsort(sync_t, kind="stable")
-    sync_rows, prev = [], 0.0
-    for pos, j in enumerate(order):
-        i = sync_idx[j]
-        t = float(sync_t[j])
-        sync_rows.append({
-            "time_utc": span.utc_iso(t)[0], "station": passes[i].station, "pass_index": int(i),
-            "error_before_sync_ns": float(sim.error_before_sync_s[pos] * 1e9),
-            "sigma_before_sync_ns": float(sim.sigma_before_sync_s[pos] * 1e9),
-            "bound_before_sync_ns": float(sim.bound_before_sync_s[pos] * 1e9),
-            "time_since_previous_sync_s": t - prev,
-        })
-        prev = t
-    greedy_passes = [cand_idx[c] for c in greedy.candidate_indices]
-    return {
-        "passes": pass_rows,
-        "syncs": sync_rows,
-        "worst_error_ns": sim.worst_bound_s * 1e9,
-        "worst_error_time_utc": span.utc_iso(sim.worst_bound_time_s)[0],
-        "worst_gap_s": sim.worst_gap_s,
-        "meets_budget": sim.meets_budget,
-        "time_error_budget_ns": req.time_error_budget_ns,
-        "k_sigma": k,
-        "recommendation": {
-            "method": greedy.method,
-            "meets_budget": greedy.feasible,
-            "sync_count": len(greedy_passes),
-            "sync_times_utc": span.utc_iso(greedy.sync_times_s) if len(greedy_passes) else [],
-            "pass_indices": greedy_passes,
-            "first_violation_utc": None if greedy.first_violation_s is None
-            else span.utc_iso(greedy.first_violation_s)[0],
-            "largest_pass_stride_meeting_budget": stride,
-            "stride_note": "every Nth eligible pass in time order, N = 1.. tried in turn",
-        },
-        "budget": {
-            "mean_fractional_rate": budget.data["mean_fractional_rate"],
-            "mean_rate_us_per_day": budget.data["mean_rate_us_per_day"],
-            "frequency_preset_fractional": budget.data["frequency_preset_fractional"],
-            "periodic_amplitude_ns": budget.data["periodic"]["amplitude_ns"],
-        },
-        "model": {
-            "relativistic_offset": req.relativistic_offset,
-            "clock": clock.name,
-            "clock_h_alpha": {str(a): float(h) for a, h in clock.h_alpha.items()},
-            "clock_drift_per_day": clock.drift_per_day,
-            "sync": "a sync resets the time offset (and, if asked, the frequency offset); the noise is "
-            "taken to restart at each sync; the span start is a sync",
-            "elevation": "geometric elevation above the geodetic horizon, no refraction",
-            "signal_path": "downlink satellite -> station; GCRS light time with Shapiro delay; Sagnac "
-            "2 omega A / c^2; one-way shift to first order in 1/c^2 with first-order Doppler",
-            "reference": req.reference if isinstance(req.reference, str) else req.reference.model_dump(),
-        },
-        "start_utc": span.utc_iso(0.0)[0],
-        "end_utc": span.utc_iso(span.duration_s)[0],
-        "span_s": span.duration_s,
-        "caution": CAUTION,
-    }
+    return present_contacts.contact_plan(
+        req, span, passes, paths, off_aos, off_los, sync_idx, sync_t, sim, cand_idx, greedy, stride, budget,
+        clock)

@@ -40,6 +40,7 @@ from ..constants import (
     C_M_PER_S,
     EARTH_ROTATION_RATE_RAD_PER_S,
     GM_EARTH_TCG_M3_PER_S2,
+    GM_SUN_M3_PER_S2,
     L_G,
 )
 from ..rate import GravityModel, clock_terms_vs_tt
@@ -66,11 +67,18 @@ def sagnac_correction_s(r_from_itrs_m, r_to_itrs_m, omega_rad_per_s: float = EAR
     return 2.0 * omega_rad_per_s * swept_area_m2(r_from_itrs_m, r_to_itrs_m) / C2_M2_PER_S2
 
 
-def shapiro_delay_s(r_emitter_m, r_receiver_m, gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2):
-    """Gravitational (Shapiro) delay of the Earth, s (TN36 eq. 11.17, gamma = 1)."""
+def shapiro_delay_s(r_emitter_m, r_receiver_m, gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2,
+                    rho_m=None):
+    """Gravitational (Shapiro) delay of one body (default: the Earth), s (TN36 eq. 11.17, gamma = 1).
+
+    ``r_emitter_m``, ``r_receiver_m``: positions relative to the body (at emission and at
+    reception); ``rho_m``: the emitter-receiver distance when the body moves between the two
+    (default: the distance between the two relative positions).
+    """
     r1 = np.linalg.norm(r_emitter_m, axis=-1)
     r2 = np.linalg.norm(r_receiver_m, axis=-1)
-    rho = np.linalg.norm(np.asarray(r_receiver_m) - np.asarray(r_emitter_m), axis=-1)
+    rho = (np.linalg.norm(np.asarray(r_receiver_m) - np.asarray(r_emitter_m), axis=-1)
+           if rho_m is None else rho_m)
     return 2.0 * gm_m3_per_s2 / (C2_M2_PER_S2 * C_M_PER_S) * np.log((r1 + r2 + rho) / (r1 + r2 - rho))
 
 
@@ -149,3 +157,51 @@ def downlink(source, station, span, t_receive_s, env, gravity: GravityModel | No
         doppler_factor_m1=one_way_fractional_shift(0.0, 0.0, n_hat, v_e, v_r),
         proper_rate_ratio_m1=(y_e - y_r) / (1.0 + y_r),
     )
+
+
+MAX_ITERATED_LIGHT_TIME_S = 3000.0
+"""Up to this light time the emission state comes from the span's coarse grids (which extend one
+hour before the start); beyond it the geometric value at the reception time is reported."""
+
+
+def light_time_to_earth(source, span, t_s, ss, orientation, station=None) -> dict:
+    """One-way light time (clock -> geocentre, and clock -> ``station``) and solar Shapiro delay.
+
+    ``source``: a barycentric source (``states_bcrs``); ``ss``: the span's solar system. Reception
+    at ``t_s`` at the geocentre (or the station, a SurfaceClock carried into the BCRS); emission at
+    t - tau with |x_clock(t - tau) - x_rx(t)| = c (tau - Shapiro), solved by fixed-point iteration.
+    Shapiro delay of the Sun only (TN36 eq. 11.17; the Earth's own term, < 0.03 ns for lunar links,
+    is left out). Coordinate light times in TDB-compatible seconds (DE421's units: distances/c;
+    TDB keeps TT's mean rate, so t - tau stays in TT seconds; a TCB light time would be longer by
+    L_B tau, 20 us at 1300 s); planning values, not a link model. Returns arrays (s) by name and
+    ``light_time_method``.
+    """
+    def one_way(x_rx):
+        xs_rx = ss.position_m("sun", t_s)
+
+        def from_emission_at(t_tx):
+            x_tx = source.states_bcrs(span, t_tx, ss, orientation).r_m
+            rho = np.linalg.norm(x_tx - x_rx, axis=1)
+            shapiro = shapiro_delay_s(x_tx - ss.position_m("sun", t_tx), x_rx - xs_rx, GM_SUN_M3_PER_S2,
+                                      rho_m=rho)
+            return rho / C_M_PER_S + shapiro, shapiro
+
+        tau = np.linalg.norm(source.states_bcrs(span, t_s, ss, orientation).r_m - x_rx, axis=1) / C_M_PER_S
+        iterated = bool(np.all(tau < MAX_ITERATED_LIGHT_TIME_S))
+        if not iterated:
+            tau, shapiro = from_emission_at(t_s)
+        for _ in range(LIGHT_TIME_ITERATIONS if iterated else 0):
+            tau, shapiro = from_emission_at(t_s - tau)
+        return tau, shapiro, iterated
+
+    xe = ss.position_m("earth", t_s)
+    tau, shapiro, iterated = one_way(xe)
+    out = {"light_time_to_earth_s": tau, "shapiro_delay_to_earth_s": shapiro,
+           "light_time_method": "iterated from emission to reception" if iterated
+           else "geometric at the reception time (light time beyond the coarse grid's margin)"}
+    if station is not None:
+        r_sta, _ = orientation.itrs_to_gcrs(station.r_itrs_m, t_s)
+        tau_s, shapiro_s, _ = one_way(xe + r_sta)
+        out["light_time_to_station_s"] = tau_s
+        out["shapiro_delay_to_station_s"] = shapiro_s
+    return out

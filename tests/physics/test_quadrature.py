@@ -3,7 +3,7 @@
 import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from support.budgets import kepler_budget
+from support.budgets import as_dict, kepler_budget
 from taubudget.physics.budget import BudgetInputs, compute_budget
 from taubudget.physics.orbits import KeplerianOrbit
 from taubudget.physics.quadrature import integrate
@@ -19,8 +19,8 @@ def _budget(ts, e, days, nodes_scale=1.0, tol=None):
     span = Span(start, days * 86400.0)
     src = KeplerianOrbit(start, 26561.4e3 if e < 0.5 else 40000e3, e, 63.0, 10.0, 270.0, 5.0)
     kw = {} if tol is None else {"tol_fractional": tol}
-    return compute_budget(BudgetInputs(src, "TT", span, FULL, series_step_s=3600.0,
-                                       nodes_scale=nodes_scale, **kw)).to_dict()
+    return as_dict(compute_budget(BudgetInputs(src, "TT", span, FULL, series_step_s=3600.0,
+                                       nodes_scale=nodes_scale, **kw)))
 
 
 def test_doubling_nodes_changes_offset_below_1ps_per_day(ts):

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from taubudget.physics.budget import BudgetInputs, compute_budget
+from taubudget.app.present.budget import budget as present_budget
+from taubudget.physics.budget import BudgetInputs, BudgetResult, compute_budget
 from taubudget.physics.orbits import KeplerianOrbit
 from taubudget.physics.rate import GravityModel
 from taubudget.physics.span import Span
@@ -23,4 +24,9 @@ def kepler_budget(ts, a_km, e, duration_s, gravity=POINT_MASS, reference="TT", m
     src = KeplerianOrbit(start, a_km * 1e3, e, inc_deg, 30.0, 40.0, m0_deg)
     inputs = BudgetInputs(src, reference, span, gravity, series_step_s=series_step_s,
                           nominal_frequency_hz=nominal_frequency_hz, **kw)
-    return src, span, compute_budget(inputs).to_dict()
+    return src, span, as_dict(compute_budget(inputs))
+
+
+def as_dict(result: BudgetResult) -> dict:
+    """A typed budget result as the API presents it (ns, ISO times), through the app's presenter."""
+    return present_budget(result, result.reference)

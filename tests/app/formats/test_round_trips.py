@@ -14,7 +14,7 @@ from skyfield.constants import AU_M, DAY_S
 from skyfield.framelib import ICRS_to_J2000, itrs
 from skyfield.positionlib import Geocentric
 from skyfield.sgp4lib import TEME
-from support.budgets import LEO_TLE, POINT_MASS
+from support.budgets import LEO_TLE, POINT_MASS, as_dict
 from taubudget.app.formats import build_format_source, format_sources
 from taubudget.app.formats.common import parse_epoch
 from taubudget.app.formats.models import OemOrbitIn, OmmOrbitIn, OpmOrbitIn, TleFileOrbitIn
@@ -26,7 +26,7 @@ from taubudget.physics.span import Span
 ONE_PS_PER_DAY_US_PER_DAY = 1e-6  # the issue's 1 ps/day, in the budget's unit
 ONE_PS_NS = 1e-3
 ONE_MICROMETRE_M = 1e-6  # text round trip: OPM writes km with 9 decimals (1 um)
-ONE_MILLIMETRE_M = 1e-3  # coarse-grid Earth orientation: < 1e-13 rad (physics/frames.py) ~ 3 um at GPS radius
+ONE_MILLIMETRE_M = 1e-3  # Earth orientation grid: < 1e-13 rad (physics/frames/orientation.py) ~ 3 um at GPS r
 ONE_CENTIMETRE_M = 1e-2  # OMM epoch in float days since 1949 resolves ~0.5 us ~ 4 mm along a LEO track
 SPIN_RATE_OMISSION_M_PER_S = 1e-4
 POINT_MASS_FORCES = {"earth_zonal_degree": 0, "sun": False, "moon": False}
@@ -43,8 +43,8 @@ def nav(ts):
 
 def _budgets(kep, src, start, duration_s):
     span = Span(start, duration_s)
-    bk = compute_budget(BudgetInputs(kep, "TT", span, POINT_MASS)).to_dict()
-    bs = compute_budget(BudgetInputs(src, "TT", span, POINT_MASS)).to_dict()
+    bk = as_dict(compute_budget(BudgetInputs(kep, "TT", span, POINT_MASS)))
+    bs = as_dict(compute_budget(BudgetInputs(src, "TT", span, POINT_MASS)))
     return bk, bs
 
 
@@ -121,8 +121,8 @@ def test_omm_matches_sgp4_from_the_same_tle(ts, odm, encoding):
     ours = src.states(span, t_s, env.orientation)
     ref = EarthSatellite(*LEO_TLE, "ref", ts).at(span.times(t_s))  # sgp4's TLE reader via skyfield
     assert np.max(np.linalg.norm(ours.r_gcrs_m - ref.position.m.T, axis=1)) < ONE_CENTIMETRE_M
-    b_omm = compute_budget(BudgetInputs(src, "TT", span, POINT_MASS)).to_dict()
-    b_tle = compute_budget(BudgetInputs(TleOrbit(*LEO_TLE, ts), "TT", span, POINT_MASS)).to_dict()
+    b_omm = as_dict(compute_budget(BudgetInputs(src, "TT", span, POINT_MASS)))
+    b_tle = as_dict(compute_budget(BudgetInputs(TleOrbit(*LEO_TLE, ts), "TT", span, POINT_MASS)))
     assert abs(b_omm["mean_rate_us_per_day"] - b_tle["mean_rate_us_per_day"]) < ONE_PS_PER_DAY_US_PER_DAY
 
 
@@ -168,7 +168,7 @@ def test_teme_and_itrf_states_convert_as_skyfield_does(nav, odm):
     text = odm.opm_kvn(EPOCH, pos.km, vel.km_per_s, frame="ITRF2014")
     src = build_format_source(OpmOrbitIn(type="opm", text=text, force_model=POINT_MASS_FORCES))
     assert np.max(np.abs(src.r0_m - r * 1e3)) < ONE_MILLIMETRE_M
-    # Spin term omega x r restored; physics/frames.py spins at the ERA rate only (precession and
+    # Spin term omega x r restored; physics/frames/orientation.py spins at the ERA rate only (precession and
     # nutation rates, ~1e-8 of omega x r ~ 3e-5 m/s here, are left out): v dv / c^2 < 1e-17.
     assert np.max(np.abs(src.v0_m_per_s - v * 1e3)) < SPIN_RATE_OMISSION_M_PER_S
 

@@ -28,8 +28,8 @@ import numpy as np
 from scipy.interpolate import CubicSpline
 from skyfield.sgp4lib import TEME
 
-from .constants import SECONDS_PER_DAY
-from .span import Span
+from ..constants import SECONDS_PER_DAY
+from ..span import Span
 
 ORIENTATION_GRID_STEP_S = 3 * 3600.0
 """Spacing of the coarse Earth-orientation grid, s (error bound tested)."""

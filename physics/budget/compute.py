@@ -1,0 +1,136 @@
+"""The drift budget of one clock over one span (DESIGN.md, "Budget outputs"); stops at the fit.
+
+1. A frame (physics/frames/) gives the integrand g = y_clock - y_ref, term by term; adaptive
+   Gauss-Legendre panels (physics/quadrature.py) integrate every term alongside the total.
+2. The secular rate (physics/budget/fit.py): a line, jointly with orbital harmonics, fitted once
+   the frame's bounded parts of known form (the eccentricity term, ...) are removed.
+3. The periodic part, what the user-segment correction -(2/c^2) r.v leaves, the extremes
+   (physics/budget/periodic.py), and the preset -y/(1 + y) (f_set = f0/(1 + y), IS-GPS-200).
+
+The result is a ``BudgetResult`` in SI units; app/present/budget.py formats it.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..cancel import checkpoint
+from ..constants import C2_M2_PER_S2
+from ..environment import environment_for
+from ..errors import PhysicsInputError
+from ..frames.choose import build_frame
+from ..quadrature import NodeBudgetExceeded, integrate
+from ..threads import single_threaded_blas
+from . import periodic as per
+from .fit import fit_secular, trapezoid_weights
+from .inputs import BudgetInputs, check_series, check_span, check_tle_epoch, initial_panel_s
+from .result import (
+    BudgetResult,
+    EccentricityCorrection,
+    Integration,
+    PeriodicPart,
+    PositionTerm,
+    Preset,
+    Series,
+)
+
+ECCENTRICITY_FORMULA = "delta_t = -(2/c^2) r.v (TN36 eq. 10.10; IS-GPS-200 F e sqrt(A) sin E)"
+
+
+def _integrate(frame, inputs: BudgetInputs):
+    src, span = inputs.source, inputs.span
+    try:
+        q = integrate(frame.rows, 0.0, span.duration_s, initial_panel_s(src, inputs.nodes_scale),
+                      tol_fractional=inputs.tol_fractional, max_nodes=inputs.max_nodes,
+                      breakpoints_s=src.panel_breaks_s(span) if hasattr(src, "panel_breaks_s") else None)
+    except NodeBudgetExceeded as exc:
+        raise PhysicsInputError("end", None, f"the span needs {exc.nodes_needed} quadrature nodes, above "
+                                f"this service's limit of {exc.max_nodes}; shorten the span or split it",
+                                ) from exc
+    checkpoint()  # between the integration and the fits and fine grids
+    if not np.all(np.isfinite(q.values[0])):
+        raise PhysicsInputError("orbit", None, "the clock's rate is not finite at some nodes: check the "
+                                "inputs for NaN, infinite or extreme values")
+    return q
+
+
+def preset_fractional(mean_fractional_rate: float) -> float:
+    """-y/(1 + y): the fractional offset f_set/f0 - 1 that nulls a rate y (no 1/(1 + y) - 1 cancellation)."""
+    return -mean_fractional_rate / (1.0 + mean_fractional_rate)
+
+
+def compute_budget(inputs: BudgetInputs) -> BudgetResult:
+    """The drift budget of ``inputs.source`` against ``inputs.reference`` over ``inputs.span``."""
+    single_threaded_blas()
+    span, src = inputs.span, inputs.source
+    check_span(span)
+    warnings = check_tle_epoch(src, span)
+    n_series = check_series(inputs)
+    env = environment_for(span)
+    frame = build_frame(src, inputs.reference, inputs.gravity, span, env, inputs.frame)
+    q = _integrate(frame, inputs)
+    parts = frame.bounded_parts(q)
+    ecc_part = parts[0]
+    period = src.period_s()
+    fit = fit_secular(q, frame.term_names, parts, period)
+    y_ref = frame.mean_reference_rate(fit.term_rates)
+    mean_rate = fit.rate / (1.0 + y_ref)
+
+    # Extremes and amplitudes on the fine grid: the total and the bounded parts.
+    fine = per.FINE_POINTS_PER_PANEL
+    t = q.fine_grid_s(fine)
+    weights = trapezoid_weights(t)
+    total = q.cumulative_on_fine_grid(fine, rows=[0])[0]
+    ecc = ecc_part.on_grid(q, fine)
+    line = fit.rate * (t - 0.5 * span.duration_s)
+    shift = per.weighted_mean(total - line, weights)
+    periodic = total - line - shift
+    residual = periodic - ecc + per.weighted_mean(ecc, weights)
+    harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
+    comps = per.components(periodic, t, period, harmonics, span.duration_s)
+    position = next((p for p in parts if p.name == "position_term"), None)
+    i_ext = int(np.argmax(np.abs(total)))
+    analytic = None
+    if src.kind == "keplerian":
+        analytic = 2.0 * np.sqrt(src.a_m * src.gm) * src.e / C2_M2_PER_S2
+
+    checkpoint()
+    series = None
+    if n_series is not None:
+        ts = np.arange(n_series) * float(inputs.series_step_s)
+        if ts[-1] < span.duration_s - 1e-6:
+            ts = np.append(ts, span.duration_s)
+        offset = q.cumulative_at(ts, rows=[0])[0]
+        series = Series(ts, offset, offset - fit.rate * (ts - 0.5 * span.duration_s) - shift,
+                        ecc_part.offset_s(ts),
+                        frame.signal_path(ts, inputs.link_station) if frame.name == "BCRS" else None)
+
+    included = [n for i, n in enumerate(frame.term_names) if np.any(q.values[1 + i] != 0.0)]
+    model = {**frame.describe(included), "secular_fit": fit.description,
+             "integration": f"adaptive Gauss-Legendre panels, {q.nodes_s.shape[1]} nodes each, "
+             f"tolerance {inputs.tol_fractional:g} s/s"}
+    f0 = inputs.nominal_frequency_hz
+    return BudgetResult(
+        span=span, frame=frame.name, reference=inputs.reference,
+        mean_fractional_rate=float(mean_rate),
+        terms_fractional={k: float(v / (1.0 + y_ref)) for k, v in fit.term_rates.items()},
+        preset=Preset(float(preset_fractional(mean_rate)), f0,
+                      None if f0 is None else float(f0 / (1.0 + mean_rate))),
+        offset_at_end_s=float(q.edge_cumulative[0, -1]), offset_extreme_s=float(total[i_ext]),
+        offset_extreme_t_s=float(t[i_ext]), offset_min_s=float(total.min()),
+        offset_max_s=float(total.max()),
+        periodic=PeriodicPart(per.half_peak_to_peak(periodic), float(periodic.max() - periodic.min()),
+                              comps[0].period_s if comps else None, comps),
+        eccentricity_correction=EccentricityCorrection(
+            per.half_peak_to_peak(ecc), float(np.max(np.abs(residual))),
+            float(residual.max() - residual.min()),
+            None if analytic is None else float(analytic), ECCENTRICITY_FORMULA),
+        position_term=None if frame.name != "BCRS" else PositionTerm(
+            0.0 if position is None else per.half_peak_to_peak(position.on_grid(q, fine)),
+            frame.position_base),
+        integration=Integration(q.error_estimate_s, q.node_count, int(len(q.edges_s) - 1),
+                                q.nodes_s.shape[1], inputs.tol_fractional),
+        model=model, omitted_terms=frame.omitted_terms(), series=series, warnings=tuple(warnings),
+        secular_rate_per_tt_s=float(fit.rate), orbital_period_s=period, integral=q,
+        eccentricity_part=ecc_part,
+    )

@@ -1,0 +1,114 @@
+"""What ``compute_budget`` takes, and the checks and sizes fixed before any work starts."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from ..constants import SECONDS_PER_DAY
+from ..ephemeris import DE421_FIRST_JD_TDB, DE421_LAST_JD_TDB
+from ..errors import PhysicsInputError
+from ..quadrature import DEFAULT_TOL_FRACTIONAL
+from ..rate import GravityModel
+from ..span import Span
+
+MIN_SPAN_S = 1.0
+"""Shortest span a budget integrates, s: below it no rate or periodic part is meaningful."""
+
+MAX_PANEL_S = 12 * 3600.0
+"""Longest first panel, s: half a day, so the Moon's semi-diurnal tide has 20 nodes per cycle
+(the tail test splits panels where the integrand needs more)."""
+
+MIN_PANEL_S = 60.0
+
+PANELS_PER_PERIOD = 1.0
+"""First panels span 1/PANELS_PER_PERIOD of an orbit (then halved where the tail test fails;
+full-orbit panels fail it for LEO, whose rate is rich in harmonics)."""
+
+TLE_MAX_EPOCH_DISTANCE_DAYS = 365.0
+"""Refuse SGP4 propagation farther than this from the element epoch, days."""
+
+TLE_WARN_EPOCH_DISTANCE_DAYS = 30.0
+"""Warn beyond this: mean elements lose accuracy over weeks (common practice)."""
+
+
+@dataclass
+class BudgetInputs:
+    """Everything ``compute_budget`` needs.
+
+    ``reference``: a time-scale name from ``physics.timescales.REFERENCE_NAMES`` (case-sensitive)
+    or a ground clock's orbit source; ``frame``: None (automatic), "GCRS" or "BCRS";
+    ``link_station``: a SurfaceClock whose light time and Shapiro delay the BCRS series carry.
+    """
+
+    source: object
+    reference: object
+    span: Span
+    gravity: GravityModel = field(default_factory=GravityModel)
+    series_step_s: float | None = None
+    nominal_frequency_hz: float | None = None
+    max_nodes: int = 5_000_000
+    max_series_points: int = 200_000
+    tol_fractional: float = DEFAULT_TOL_FRACTIONAL
+    nodes_scale: float = 1.0  # > 1 shrinks the initial panels (convergence checks)
+    frame: str | None = None
+    link_station: object = None
+
+
+def initial_panel_s(source, nodes_scale: float = 1.0) -> float:
+    """Length of the first panels, s: 1/PANELS_PER_PERIOD of the orbit, within [MIN, MAX]_PANEL_S."""
+    period = source.period_s()
+    base = MAX_PANEL_S if period is None else min(MAX_PANEL_S, period / PANELS_PER_PERIOD)
+    return max(MIN_PANEL_S, base) / nodes_scale
+
+
+def check_tle_epoch(src, span: Span) -> list[str]:
+    """Refuse SGP4 propagation a year or more from the TLE epoch; warn beyond a month."""
+    epoch = src.epoch() if hasattr(src, "epoch") else None
+    if epoch is None or getattr(src, "kind", "") != "tle":
+        return []
+    e = float(span.seconds_after_start(epoch))  # epoch - start, s
+    nearest = 0.0 if 0.0 <= e <= span.duration_s else min(abs(e), abs(e - span.duration_s))
+    days = nearest / SECONDS_PER_DAY
+    if days > TLE_MAX_EPOCH_DISTANCE_DAYS:
+        raise PhysicsInputError(
+            "start", span.start.utc_strftime("%Y-%m-%d"),
+            f"the span lies {days:.0f} days from the TLE epoch; SGP4 mean elements are not meant to "
+            f"be propagated that far (limit {TLE_MAX_EPOCH_DISTANCE_DAYS:.0f} days): use recent elements",
+        )
+    if days > TLE_WARN_EPOCH_DISTANCE_DAYS:
+        return [f"the span lies {days:.0f} days from the TLE epoch: SGP4 positions degrade over weeks "
+                "(drag, solar activity); treat the periodic part with care"]
+    return []
+
+
+def check_span(span: Span):
+    if not span.duration_s >= MIN_SPAN_S:
+        raise PhysicsInputError(
+            "end", span.duration_s,
+            f"the span of {span.duration_s:.3g} s is shorter than the {MIN_SPAN_S:g} s a budget needs",
+        )
+    jd0 = float(span.start.tdb)
+    jd1 = jd0 + span.duration_s / SECONDS_PER_DAY
+    if jd0 < DE421_FIRST_JD_TDB or jd1 > DE421_LAST_JD_TDB:
+        raise PhysicsInputError(
+            "end" if jd0 >= DE421_FIRST_JD_TDB else "start",
+            span.start.utc_strftime("%Y-%m-%d") if jd0 < DE421_FIRST_JD_TDB else None,
+            "the span must lie inside the DE421 ephemeris (1899-07-30 to 2053-10-07) that "
+            "supplies the Sun and Moon positions",
+        )
+
+
+def check_series(inputs: BudgetInputs) -> int | None:
+    """Points of the requested series (None: no series); refused above ``max_series_points``."""
+    if not inputs.series_step_s:
+        return None
+    import math
+
+    n_pts = math.floor(inputs.span.duration_s / inputs.series_step_s) + 1
+    if n_pts + 1 > inputs.max_series_points:
+        raise PhysicsInputError(
+            "series_step_s", inputs.series_step_s,
+            f"a step of {inputs.series_step_s} s gives {n_pts} series points, above the limit "
+            f"of {inputs.max_series_points}",
+        )
+    return n_pts
