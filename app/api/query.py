@@ -36,6 +36,8 @@ class BudgetQuery(BaseModel):
     mean_anomaly_deg: float | None = Field(None, examples=[120.0])
     epoch: AwareDatetime | None = Field(None, description="Epoch of the elements; default: start")
     j2_secular: bool | None = None
+    element_type: Literal["osculating", "mean"] | None = Field(
+        None, description="Earth orbits: osculating (default) or Brouwer mean elements")
     # Two-line elements
     tle_line1: str | None = Field(None, max_length=80)
     tle_line2: str | None = Field(None, max_length=80)
@@ -71,7 +73,7 @@ _KEPLER = {
     "semi_major_axis_km": "semi_major_axis_km", "eccentricity": "eccentricity",
     "inclination_deg": "inclination_deg", "ra_of_asc_node_deg": "ra_of_asc_node_deg",
     "arg_of_pericenter_deg": "arg_of_pericenter_deg", "mean_anomaly_deg": "mean_anomaly_deg",
-    "epoch": "epoch", "j2_secular": "j2_secular",
+    "epoch": "epoch", "j2_secular": "j2_secular", "element_type": "element_type",
 }
 _TLE = {"tle_line1": "line1", "tle_line2": "line2"}
 _SURFACE = {
@@ -97,8 +99,8 @@ def _given(q: BudgetQuery, names) -> list[str]:
 def orbit_type(q: BudgetQuery) -> str:
     """Which orbit family the parameters describe; ``QueryConflict`` if more than one."""
     present = {kind: _given(q, fam) for kind, fam in _FAMILIES.items()}
-    # epoch and j2_secular alone do not make an orbit Keplerian
-    kepler_core = [n for n in present["keplerian"] if n not in ("epoch", "j2_secular")]
+    # epoch, j2_secular and element_type alone do not make an orbit Keplerian
+    kepler_core = [n for n in present["keplerian"] if n not in ("epoch", "j2_secular", "element_type")]
     families = [k for k in ("tle", "surface") if present[k]] + (["keplerian"] if kepler_core else [])
     if len(families) > 1:
         names = [n for k in families for n in present[k]]

@@ -20,9 +20,7 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import AwareDatetime, Field, field_validator
-from taubudget.physics.constants import C_M_PER_S
-from taubudget.physics.orbits.keplerian import EARTH_HILL_RADIUS_M
+from pydantic import AwareDatetime, Field
 
 from ..model_base import StrictModel, ZonalGravityModel
 from .common import MAX_TEXT_CHARS
@@ -93,24 +91,6 @@ class StateVectorOrbitIn(_Strict):
     velocity_gcrs_km_per_s: list[float] = Field(min_length=3, max_length=3,
                                                 description="GCRS velocity (dx/dTCG), km/s")
     force_model: ForceModelIn = Field(default_factory=ForceModelIn)
-
-    @field_validator("position_gcrs_km")
-    @classmethod
-    def _within_hill_sphere(cls, r_km: list[float]) -> list[float]:
-        # Checked here, before the km -> m conversion, so that a huge component is a clear 422
-        # rather than an overflow.
-        if max(abs(x) for x in r_km) > EARTH_HILL_RADIUS_M / 1e3:
-            raise ValueError(f"a component beyond {EARTH_HILL_RADIUS_M / 1e3:.3g} km puts the state "
-                             "outside the Earth's Hill sphere, where a geocentric state vector does "
-                             "not describe an Earth orbit")
-        return r_km
-
-    @field_validator("velocity_gcrs_km_per_s")
-    @classmethod
-    def _slower_than_light(cls, v_km_per_s: list[float]) -> list[float]:
-        if sum(x * x for x in v_km_per_s) ** 0.5 >= C_M_PER_S / 1e3:
-            raise ValueError("the speed reaches the speed of light (299,792.458 km/s)")
-        return v_km_per_s
 
 
 TEXT_ORBITS = (OmmOrbitIn, OpmOrbitIn, OemOrbitIn, Sp3OrbitIn, TleFileOrbitIn)

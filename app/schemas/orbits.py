@@ -20,8 +20,9 @@ from ..model_base import ZonalGravityModel
 
 
 class KeplerianOrbitIn(_Strict):
-    """Two-body elements around the Earth (GCRS; mean elements with j2_secular), or around the
-    Sun, the Moon or Mars (axes of the ICRF equator, or the J2000 ecliptic; BCRS budget)."""
+    """Elements around the Earth (GCRS equator; osculating or mean, the orbit following the zonal
+    field of ``gravity``), or two-body elements around the Sun, the Moon or Mars (axes of the ICRF
+    equator, or the J2000 ecliptic; BCRS budget)."""
 
     type: Literal["keplerian"]
     center: Literal["earth", "sun", "moon", "mars"] = "earth"
@@ -35,7 +36,15 @@ class KeplerianOrbitIn(_Strict):
     ra_of_asc_node_deg: float = 0.0
     arg_of_pericenter_deg: float = 0.0
     mean_anomaly_deg: float = 0.0
-    j2_secular: bool = Field(False, description="Drift node, perigee and mean anomaly at J2 rates")
+    element_type: Literal["osculating", "mean"] | None = Field(
+        None, description="Earth orbits: \"osculating\" (default): the state at the epoch is the "
+        "two-body conversion of the elements, then the orbit follows the zonal field of "
+        "gravity.earth_zonal_degree; \"mean\": Brouwer mean elements of the first-order J2 theory "
+        "(short-period terms included; named in the response's model block). With "
+        "earth_zonal_degree 0 both are the two-body orbit")
+    j2_secular: bool = Field(False, description="Kept for earlier clients: with a zonal field it "
+                             "means element_type \"mean\"; with earth_zonal_degree 0 it drifts "
+                             "node, perigee and mean anomaly of the two-body ellipse at J2 rates")
 
 
 class TleOrbitIn(_Strict):

@@ -51,7 +51,8 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
     """Physics inputs of a request; ``source``: the orbit source when the caller already built it
     (one object of an uploaded multi-object file), else built from ``req.orbit``."""
     settings = settings or get_settings()
-    source = build_source(req.orbit) if source is None else source
+    if source is None:
+        source = build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
     reference = req.reference
     if isinstance(reference, SurfaceClockIn):
         reference = build_source(reference, prefix="reference")
@@ -164,6 +165,7 @@ def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=
     from taubudget.physics.quadrature import NODES_PER_PANEL
 
     settings = settings or get_settings()
-    source = build_source(req.orbit) if source is None else source
+    if source is None:
+        source = build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
     span = build_span(req, settings)
     return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / initial_panel_s(source)))

@@ -22,11 +22,15 @@ def _time(dt):
     return timescale().from_datetime(dt)
 
 
-def _keplerian(orbit: KeplerianOrbitIn, prefix: str):
+def _keplerian(orbit: KeplerianOrbitIn, prefix: str, zonal_degree: int = 0):
     if orbit.center != "earth":
         if orbit.j2_secular:
             raise PhysicsInputError(f"{prefix}.j2_secular", True, "J2 secular drift is modelled for "
                                     "Earth-centred orbits only")
+        if orbit.element_type is not None:
+            raise PhysicsInputError(f"{prefix}.element_type", orbit.element_type, "osculating and "
+                                    "mean elements are distinguished for Earth orbits in a zonal "
+                                    "field; elements around another centre are two-body")
         return CentredKeplerianOrbit(
             orbit.center, _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
             orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
@@ -35,10 +39,15 @@ def _keplerian(orbit: KeplerianOrbitIn, prefix: str):
     if orbit.reference_plane != "icrf_equator":
         raise PhysicsInputError(f"{prefix}.reference_plane", orbit.reference_plane,
                                 "Earth-centred elements are referred to the GCRS equator")
+    if orbit.j2_secular and orbit.element_type == "osculating" and zonal_degree >= 2:
+        raise PhysicsInputError(f"{prefix}.j2_secular", True, "j2_secular means mean elements; it "
+                                "contradicts element_type \"osculating\"")
+    element_type = orbit.element_type or ("mean" if orbit.j2_secular else "osculating")
     return KeplerianOrbit(
         _time(orbit.epoch), orbit.semi_major_axis_km * 1e3, orbit.eccentricity,
         orbit.inclination_deg, orbit.ra_of_asc_node_deg, orbit.arg_of_pericenter_deg,
-        orbit.mean_anomaly_deg, j2_secular=orbit.j2_secular,
+        orbit.mean_anomaly_deg, j2_secular=orbit.j2_secular, element_type=element_type,
+        zonal_degree=zonal_degree,
     )
 
 
@@ -70,10 +79,16 @@ ORBIT_BUILDERS: dict[type, Callable] = {
 """Request model -> builder(orbit, prefix) of its physics source."""
 
 
-def build_source(orbit, prefix: str = "orbit"):
-    """The physics orbit source of a request's orbit block (``prefix``: its request path)."""
+def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
+    """The physics orbit source of a request's orbit block (``prefix``: its request path).
+
+    ``zonal_degree``: the Earth field the budget evaluates (``gravity.earth_zonal_degree``);
+    Keplerian elements around the Earth follow it (state vectors carry their own force model).
+    """
     try:
         builder = ORBIT_BUILDERS[type(orbit)]
     except KeyError:  # pragma: no cover - the Orbit union and the registry are checked by a test
         raise TypeError(f"unsupported orbit {type(orbit).__name__}") from None
+    if builder is _keplerian:
+        return builder(orbit, prefix, zonal_degree)
     return builder(orbit, prefix)

@@ -15,7 +15,6 @@ from ..constants import (
     AU_M,
     C2_M2_PER_S2,
     EARTH_EQUATORIAL_RADIUS_M,
-    EARTH_J2,
     EGM2008_C22_S22_NORMALIZED,
     GEOID_UNDULATION_MAX_M,
     GM_EARTH_TCG_M3_PER_S2,
@@ -74,11 +73,7 @@ class GeocentricFrame(Frame):
                 * gm_over_rc2,
                 "degree-2 sectoral term, EGM2008 C22/S22 (from memory); mostly periodic"))
             if src.kind == "keplerian":
-                out.append(OmittedTerm(
-                    "orbit_perturbations_short_period",
-                    EARTH_J2 * (EARTH_EQUATORIAL_RADIUS_M / r) ** 2 * gm_over_rc2,
-                    "the Keplerian source has no J2 short-period motion; order-of-magnitude size of "
-                    "the periodic J2 rate term it misses (Ashby 2003, section 9)"))
+                out.extend(OmittedTerm(*term) for term in src.omitted_motion_terms(grav, r))
         else:
             out.append(OmittedTerm(
                 "solid_earth_tides_and_loading", 3e-17,

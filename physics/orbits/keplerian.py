@@ -1,17 +1,32 @@
-"""Keplerian elements around the Earth, two-body or with J2 secular drift.
+"""Keplerian elements around the Earth, in the same zonal field the budget evaluates.
 
-Elements are osculating (two-body) or mean (with ``j2_secular``) elements in
-the GCRS at ``epoch``, around the Earth with the TCG-compatible GM (TN36
-Table 1.1). With ``j2_secular`` the node, perigee and mean anomaly drift at
-the first-order secular rates of Brouwer (1959) (Vallado, 4th ed., eqs.
-9-41, 9-42 and 9-39):
+Elements are given in the GCRS at ``epoch``, around the Earth with the
+TCG-compatible GM (TN36 Table 1.1). ``zonal_degree`` is the Earth field the
+budget evaluates along the orbit (0, or 2..6 for EGM2008 J2..Jn):
 
-    dRAAN/dt = -3/2 n J2 (R/p)^2 cos i
-    dargp/dt =  3/4 n J2 (R/p)^2 (5 cos^2 i - 1)
-    dM/dt    =  n [1 + 3/4 J2 (R/p)^2 sqrt(1 - e^2) (3 cos^2 i - 1)]
+- degree 0: a two-body ellipse (both element types are the same thing);
+- degree >= 2, ``element_type="osculating"``: the state at the epoch is the
+  two-body conversion of the elements; the orbit then follows the field;
+- degree >= 2, ``element_type="mean"``: the elements are Brouwer mean elements
+  of the first-order J2 theory of ``zonal_theory`` (short-period terms included).
 
-The shape of the orbit stays Keplerian: short-period J2 motion is not
-modelled by this source (use a TLE/SGP4 source for that).
+With degree >= 2 the trajectory is that first-order theory (``zonal_theory``),
+worked in the frame of the Earth's true equator at the epoch (the field's axis,
+0.15 deg from the GCRS pole in 2027), and made energy-consistent with the
+whole zonal field (``zonal_energy``): the speed at every node is
+sqrt(2 (E + U(x))) with U the field of the budget, and the mean semi-major axis
+satisfies the orbit-averaged virial identity for that energy. E is the energy of
+the osculating state (osculating elements) or the virial energy of the mean
+orbit (mean elements). The clock's mean rate is then exact to O(J2^3); the
+theory's second-order errors (metres radially, km per day along-track in LEO)
+remain in the position; J3 adds its long-period eccentricity term; the J3..J6
+short-period terms, the Sun and the Moon act on the clock's rate and on E but not on
+the orbit's shape.
+
+``j2_secular`` (kept for callers of the earlier interface) drifts the node,
+perigee and mean anomaly of a two-body ellipse at Brouwer's secular rates
+(Vallado, 4th ed., eqs. 9-39 to 9-42) when ``zonal_degree`` is 0; with a zonal
+field it means mean elements.
 """
 
 from __future__ import annotations
@@ -20,10 +35,26 @@ import math
 
 import numpy as np
 
-from ..constants import EARTH_EQUATORIAL_RADIUS_M, EARTH_J2, GM_EARTH_TCG_M3_PER_S2
+from ..constants import (
+    AU_M,
+    C2_M2_PER_S2,
+    EARTH_EQUATORIAL_RADIUS_M,
+    EARTH_J2,
+    EGM2008_J,
+    EGM2008_REFERENCE_RADIUS_M,
+    GM_EARTH_TCG_M3_PER_S2,
+    L_G,
+    MAX_ZONAL_DEGREE,
+    MEAN_MOON_DISTANCE_M,
+)
 from ..errors import PhysicsInputError
 from ..kepler import elements_to_state
+from ..potential.tidal import BODY_GM_M3_PER_S2
+from . import zonal_energy, zonal_theory
 from .base import OrbitSource, States
+
+ELEMENT_TYPES = ("osculating", "mean")
+THEORY_NAME = "Brouwer (1959) first-order J2 theory, short-period terms in polar-nodal variables"
 
 EARTH_HILL_RADIUS_M = 1.5e9
 """Radius of the Earth's Hill sphere, a (m/3M)^(1/3) ~ 1.5e6 km (common practice)."""
@@ -48,6 +79,8 @@ class KeplerianOrbit(OrbitSource):
         mean_anomaly_deg: float,
         j2_secular: bool = False,
         gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2,
+        element_type: str = "osculating",
+        zonal_degree: int = 0,
     ):
         a, e = float(semi_major_axis_m), float(eccentricity)
         if not math.isfinite(a) or a <= 0.0:
@@ -79,6 +112,12 @@ class KeplerianOrbit(OrbitSource):
             raise PhysicsInputError(
                 "orbit.inclination_deg", inclination_deg, "inclination must lie in [0, 180] degrees"
             )
+        if element_type not in ELEMENT_TYPES:
+            raise PhysicsInputError("orbit.element_type", element_type,
+                                    f"element type must be one of {', '.join(ELEMENT_TYPES)}")
+        if zonal_degree < 0 or zonal_degree == 1 or zonal_degree > MAX_ZONAL_DEGREE:
+            raise PhysicsInputError("gravity.earth_zonal_degree", zonal_degree,
+                                    f"zonal degree must be 0 or 2..{MAX_ZONAL_DEGREE}")
         self._epoch = epoch
         self.a_m, self.e = a, e
         self.i_rad = math.radians(inclination_deg)
@@ -86,7 +125,14 @@ class KeplerianOrbit(OrbitSource):
         self.argp_rad = math.radians(arg_of_pericenter_deg)
         self.m0_rad = math.radians(mean_anomaly_deg)
         self.gm = gm_m3_per_s2
-        self.j2_secular = bool(j2_secular)
+        self.element_type = element_type
+        self.zonal_degree = int(zonal_degree)
+        self.input_a_m, self.input_e = a, e
+        self.j2_secular = bool(j2_secular) and self.zonal_degree < 2
+        self._theory = None
+        if self.zonal_degree >= 2:
+            self._init_theory()
+            return
         n = math.sqrt(gm_m3_per_s2 / a**3)
         self.mean_motion_rad_per_s = n
         if self.j2_secular:
@@ -100,10 +146,43 @@ class KeplerianOrbit(OrbitSource):
             self.raan_rate = self.argp_rate = 0.0
             self.m_rate = n
 
+    def _init_theory(self):
+        """Mean elements in the true-equator frame of the epoch, and the orbit's energy."""
+        field = zonal_theory.J2Field(self.gm, EGM2008_J[2], EGM2008_REFERENCE_RADIUS_M,
+                                     EGM2008_J[3] if self.zonal_degree >= 3 else 0.0)
+        rot = np.asarray(self._epoch.M, dtype=float)  # GCRS -> true equator of the epoch
+        r0, v0, _ = elements_to_state(self.gm, self.a_m, self.e, self.i_rad, self.raan_rad,
+                                      self.argp_rad, self.m0_rad)
+        r0, v0 = rot @ r0[0], rot @ v0[0]
+        if self.element_type == "osculating":
+            el = zonal_theory.mean_from_osculating(r0, v0, field)
+            u0 = float(zonal_energy.potential_pole_frame(r0[None], self.zonal_degree, self.gm)[0])
+            energy = 0.5 * float(v0 @ v0) - u0
+            el = zonal_energy.calibrate_semi_major_axis(el, field, self.zonal_degree, energy)
+        else:
+            # Mean elements referred to the GCRS equator, re-expressed about the field's axis.
+            el = zonal_theory.two_body_elements(r0, v0, self.gm)
+            energy = zonal_energy.virial_energy(el, field, self.zonal_degree)
+        self._theory = (field, el, rot, energy)
+        self.mean_elements = el
+        self.energy_m2_per_s2 = energy
+        self.a_m, self.e = el.a_m, el.e
+        self.raan_rate, self.argp_rate, self.m_rate = zonal_theory.secular_rates(el, field)
+        # Convert to rates per TT second (the budget's time argument); TCG runs 1/(1 - L_G) faster.
+        scale = 1.0 / (1.0 - L_G)
+        self.raan_rate, self.argp_rate, self.m_rate = (x * scale for x in
+                                                       (self.raan_rate, self.argp_rate, self.m_rate))
+        self.m0_rad = el.m_rad
+        self.mean_motion_rad_per_s = math.sqrt(self.gm / el.a_m**3) * scale
+
     def epoch(self):
         return self._epoch
 
     def period_s(self) -> float:
+        """Anomalistic period; with a zonal field and e < 0.3 the draconic (nodal) period, whose
+        harmonics carry the J2 terms of a near-circular orbit's rate."""
+        if self._theory is not None and self.e < self.ECCENTRIC_PANELS_FROM_E:
+            return 2.0 * math.pi / (self.m_rate + self.argp_rate)
         return 2.0 * math.pi / self.m_rate
 
     ECCENTRIC_PANELS_FROM_E = 0.3
@@ -131,6 +210,8 @@ class KeplerianOrbit(OrbitSource):
     def states(self, span, t_s, orientation) -> States:
         t_s = np.asarray(t_s, dtype=float)
         dt = t_s - float(span.seconds_after_start(self._epoch))  # seconds since epoch
+        if self._theory is not None:
+            return self._theory_states(t_s, dt, orientation)
         raan = self.raan_rad + self.raan_rate * dt
         argp = self.argp_rad + self.argp_rate * dt
         m = self.m0_rad + self.m_rate * dt
@@ -139,10 +220,67 @@ class KeplerianOrbit(OrbitSource):
         r, v, _ = elements_to_state(self.gm, self.a_m, self.e, self.i_rad, raan, argp, m)
         return States(r, v, np.zeros(len(t_s), dtype=np.int8))
 
+    def _theory_states(self, t_s, dt_tt_s, orientation) -> States:
+        field, el, rot, energy = self._theory
+        pos, vel = zonal_theory.osculating_state(el, field, dt_tt_s / (1.0 - L_G))
+        r_gcrs, v_gcrs = pos @ rot, vel @ rot  # rot.T @ x for each row
+        # The speed comes from the energy and the field the budget evaluates, pole included.
+        if orientation is not None and len(t_s):
+            pole = orientation.pole_gcrs(t_s)
+            rn = np.linalg.norm(r_gcrs, axis=1)
+            u0, un = zonal_energy.zonal_terms(rn, np.einsum("ni,ni->n", r_gcrs, pole) / rn,
+                                              self.zonal_degree, self.gm)
+            u = u0 + sum(un)
+        else:
+            u = zonal_energy.potential_pole_frame(pos, self.zonal_degree, self.gm)
+        v_gcrs = zonal_energy.energy_consistent_velocity(v_gcrs, u, energy)
+        return States(r_gcrs, v_gcrs, np.zeros(len(t_s), dtype=np.int8))
+
+    def omitted_motion_terms(self, gravity, mean_r_m: float) -> list[tuple[str, float, str]]:
+        """(name, fractional size, note) of the forces the budget's field or switches have but
+        this orbit's motion leaves out."""
+        gm_over_rc2 = self.gm / (mean_r_m * C2_M2_PER_S2)
+        ratio = EGM2008_REFERENCE_RADIUS_M / mean_r_m
+        if self._theory is None:
+            if gravity.earth_zonal_degree < 2:
+                return []
+            return [("orbit_perturbations_zonal", EARTH_J2 * ratio**2 * gm_over_rc2,
+                     "this orbit moves in a point-mass field while the rate evaluates the zonal "
+                     "terms; order of the J2 rate terms that belong to no trajectory")]
+        out = [("orbit_shape_beyond_first_order_j2",
+                max(EARTH_J2**2 * ratio**4, abs(EGM2008_J[3]) * ratio**3) * gm_over_rc2,
+                "J2^2 and the J3..Jn short-period terms of the orbit's shape, left out by the "
+                "first-order theory; periodic (the energy consistency keeps them out of the mean "
+                "rate); order of size")]
+        distances = {"sun": AU_M, "moon": MEAN_MOON_DISTANCE_M}
+        if gravity.bodies():
+            size = sum(BODY_GM_M3_PER_S2[b] * mean_r_m**2 / distances[b] ** 3 for b in gravity.bodies())
+            out.append(("third_body_forces_on_orbit", size / C2_M2_PER_S2,
+                        "the Sun and Moon act on the clock's rate but do not perturb this orbit; order "
+                        "of their tidal potential (a state_vector orbit integrates them)"))
+        return out
+
     def describe(self) -> dict:
-        return {
+        out = {
             "type": self.kind,
             "propagation": "two-body with J2 secular drift" if self.j2_secular else "two-body",
+            "element_type": self.element_type,
             "gm_m3_per_s2": self.gm,
             "period_s": self.period_s(),
         }
+        if self._theory is not None:
+            el = self.mean_elements
+            given = ("osculating elements converted to the theory's mean elements at the epoch"
+                     if self.element_type == "osculating" else "the theory's mean elements")
+            out["propagation"] = (
+                f"{THEORY_NAME} ({given}), in the true equator of the epoch; speed from the energy "
+                f"v^2/2 - U conserved in the EGM2008 zonal field J2..J{self.zonal_degree} that the "
+                "rate uses, mean semi-major axis from the orbit-averaged virial identity"
+                + ("; J3 long-period eccentricity term" if self.zonal_degree >= 3 else "")
+                + "; J3..Jn short-period terms, the Sun and the Moon do not shape the orbit"
+            )
+            out["element_theory"] = THEORY_NAME
+            out["mean_semi_major_axis_km"] = el.a_m / 1e3
+            out["mean_eccentricity"] = el.e
+            out["mean_inclination_to_true_equator_deg"] = math.degrees(el.i_rad)
+        return out

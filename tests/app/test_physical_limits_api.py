@@ -49,21 +49,6 @@ def _case_state_at_the_geocentre():
     return b
 
 
-def _case_state_beyond_hill_sphere():
-    # Found by schemathesis: 1e306 km overflowed in the km -> m conversion (500 before the fix).
-    b = _base()
-    b["orbit"] = {"type": "state_vector", "epoch": "2027-03-01T00:00:00Z",
-                  "position_gcrs_km": [1e306, 0.0, 0.0], "velocity_gcrs_km_per_s": [0.0, 7.585, 0.0]}
-    return b
-
-
-def _case_state_faster_than_light():
-    b = _base()
-    b["orbit"] = {"type": "state_vector", "epoch": "2027-03-01T00:00:00Z",
-                  "position_gcrs_km": [6928.0, 0.0, 0.0], "velocity_gcrs_km_per_s": [0.0, 3e5, 0.0]}
-    return b
-
-
 def _case_long_numerical_propagation():
     b = _base()
     b["orbit"] = {"type": "state_vector", "epoch": "2027-03-01T00:00:00Z",
@@ -84,8 +69,6 @@ def _case_tle_years_from_epoch():
     (_case_gcrs_forced_for_the_sun, "/frame", "barycentric"),
     (_case_gcrs_forced_with_tdb, "/frame", "barycentric"),
     (_case_state_at_the_geocentre, "/orbit/position_gcrs_km", "inside the Earth"),
-    (_case_state_beyond_hill_sphere, "/orbit/position_gcrs_km", "Hill sphere"),
-    (_case_state_faster_than_light, "/orbit/velocity_gcrs_km_per_s", "speed of light"),
     (_case_long_numerical_propagation, "/end", "MAX_NUMERICAL_REVOLUTIONS"),
     (_case_tle_years_from_epoch, "/start", "TLE epoch"),
 ])

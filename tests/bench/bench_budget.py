@@ -78,12 +78,47 @@ def case(name, src, span, trapezoid=True):
     return wall
 
 
+def keplerian_in_the_field(name, start, el, days):
+    """Issue 10: Keplerian elements now follow the zonal field (first-order J2 theory plus
+    energy consistency). Before = the two-body ellipse (zonal_degree 0) in the same budget;
+    after = the theory at degree 4. Ratios: budget time over the bare two-body propagator of the
+    same nodes, and after over before; a numerical integration from the same state for scale
+    (the LEO month only with --numerical: it takes seconds)."""
+    from taubudget.physics.kepler import elements_to_state
+    from taubudget.physics.orbits import NumericalOrbit
+
+    span = Span(start, days * 86400.0)
+    env = environment_for(span)
+    before_src = KeplerianOrbit(start, *el)
+    after_src = KeplerianOrbit(start, *el, zonal_degree=4)
+    before, t_before = _timed(lambda: compute_budget(BudgetInputs(before_src, "TT", span, FULL)))
+    after, t_after = _timed(lambda: compute_budget(BudgetInputs(after_src, "TT", span, FULL)))
+    nodes = after.integral.nodes_s.reshape(-1)
+    _, bare = _timed(lambda: before_src.states(span, nodes, env.orientation))
+    _, bare_theory = _timed(lambda: after_src.states(span, nodes, env.orientation))
+    print(f"{name + ' before (two-body)':<34} nodes {before.nodes_used:>8}  cpu {t_before * 1e3:8.1f} ms"
+          f"  total/bare two-body {t_before / bare:5.2f}", flush=True)
+    print(f"{name + ' after (zonal theory)':<34} nodes {after.nodes_used:>8}  cpu {t_after * 1e3:8.1f} ms"
+          f"  total/bare two-body {t_after / bare:5.2f}  theory/two-body states {bare_theory / bare:5.2f}"
+          f"  after/before {t_after / t_before:5.2f}  rate change "
+          f"{(after.secular_rate_per_tt_s - before.secular_rate_per_tt_s) * 86400e6:+.6f} us/day", flush=True)
+    if days <= 7 or "--numerical" in sys.argv:
+        r0, v0, _ = elements_to_state(after_src.gm, el[0], el[1], *np.radians(el[2:]))
+        num = NumericalOrbit(start, r0[0], v0[0], zonal_degree=4, sun=True, moon=True)
+        numb, t_num = _timed(lambda: compute_budget(BudgetInputs(num, "TT", span, FULL)), repeat=1)
+        print(f"{name + ' numerical (DOP853)':<34} nodes {numb.nodes_used:>8}  cpu {t_num * 1e3:8.1f} ms"
+              f"  numerical/after {t_num / t_after:6.1f}  mean rate after - numerical "
+              f"{after.secular_rate_per_tt_s - numb.secular_rate_per_tt_s:+.2e}", flush=True)
+
+
 def main():
     ts = timescale()
     start = ts.utc(2027, 3, 1)
-    meo = KeplerianOrbit(start, 26561.75e3, 0.0042, 55.0, 112.5, 37.0, 201.0)
+    keplerian_in_the_field("Keplerian LEO 30 d", start, (6878.137e3, 0.001, 28.5, 30.0, 40.0, 10.0), 30)
+    keplerian_in_the_field("Keplerian MEO 7 d", start, (26561.75e3, 0.0042, 55.0, 112.5, 37.0, 201.0), 7)
+    meo = KeplerianOrbit(start, 26561.75e3, 0.0042, 55.0, 112.5, 37.0, 201.0, zonal_degree=4)
     case("MEO 7 d, J2..J4 + Sun/Moon", meo, Span(start, 7 * 86400.0))
-    ecc = KeplerianOrbit(start, 40000e3, 0.7, 63.4, 10.0, 270.0, 0.0)
+    ecc = KeplerianOrbit(start, 40000e3, 0.7, 63.4, 10.0, 270.0, 0.0, zonal_degree=4)
     case("e = 0.7, 7 d", ecc, Span(start, 7 * 86400.0))
     tle = TleOrbit(*LEO_TLE, ts)
     tle_start = ts.utc(2027, 3, 1, 6)
@@ -91,8 +126,8 @@ def main():
 
     year = Span(start, 365 * 86400.0)
     env = environment_for(year)
-    sats = [KeplerianOrbit(start, 26561.75e3, 0.003 + 0.0002 * k, 55.0, 60.0 * (k // 4), 0.0, 90.0 * k)
-            for k in range(24)]
+    sats = [KeplerianOrbit(start, 26561.75e3, 0.003 + 0.0002 * k, 55.0, 60.0 * (k // 4), 0.0, 90.0 * k,
+                           zonal_degree=4) for k in range(24)]
     t0 = time.process_time()
     nodes = 0
     bare = 0.0
