@@ -62,7 +62,8 @@ def _problem_kwargs(p: dict) -> dict:
     openapi_extra=doc.budget_body({
         "meo_circular_point_mass": ("Circular MEO orbit, point-mass Earth, against TT",
                                     EXAMPLE_REQUEST),
-        "leo_j2_tai": ("Low orbit with J2 drift and tides, against TAI", EXAMPLE_LEO_J2_REQUEST),
+        "leo_j2_tai": ("Low orbit as Brouwer mean elements in J2..J4 with tides, against TAI",
+                       EXAMPLE_LEO_J2_REQUEST),
         "ground_clock": ("A clock on a mountain laboratory, against TT", EXAMPLE_GROUND_REQUEST),
         "lunar_surface_clock": ("A clock on the Moon against TT (BCRS; TT along the geocentre)",
                                 EXAMPLE_LUNAR_REQUEST),

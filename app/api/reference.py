@@ -70,8 +70,10 @@ MODELS = {
         "terms": list(TERM_NAMES),
     },
     "orbit_sources": {
-        "keplerian": "two-body elements in the GCRS (optionally J2 secular drift of node, perigee "
-        "and mean anomaly)",
+        "keplerian": "elements in the GCRS around the Earth, osculating (default) or Brouwer mean "
+        "(element_type); the orbit follows the zonal field of gravity.earth_zonal_degree: Brouwer's "
+        "first-order J2 theory with short-period terms (and the J3 long-period term), its speed "
+        "made consistent with the field's energy; two-body with a point-mass field",
         "tle": "two-line elements propagated with SGP4 (WGS-72), TEME rotated to GCRS",
         "surface": "a clock fixed on the rotating Earth at WGS-84 geodetic coordinates",
     },

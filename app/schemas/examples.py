@@ -17,13 +17,13 @@ EXAMPLE_LEO_J2_REQUEST = {
         "type": "keplerian", "epoch": "2027-05-10T00:00:00Z",
         "semi_major_axis_km": 7078.137, "eccentricity": 0.0011, "inclination_deg": 97.9,
         "ra_of_asc_node_deg": 40.0, "arg_of_pericenter_deg": 90.0, "mean_anomaly_deg": 15.0,
-        "j2_secular": True,
+        "element_type": "mean",
     },
     "reference": "TAI",
     "start": "2027-05-10T00:00:00Z", "duration_days": 0.5,
     "gravity": {"earth_zonal_degree": 4, "sun": True, "moon": True},
 }
-"""An invented sun-synchronous-like low orbit with J2 drift, half a day against TAI."""
+"""An invented sun-synchronous-like low orbit given as Brouwer mean elements, half a day against TAI."""
 
 EXAMPLE_GROUND_REQUEST = {
     "orbit": {"type": "surface", "latitude_deg": 46.61, "longitude_deg": 10.27, "height_m": 1200.0,

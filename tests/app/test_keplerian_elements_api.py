@@ -79,3 +79,13 @@ def test_contradictions_are_refused_by_name(client):
     resp = client.post("/v1/budgets", json={**_body(sun), "reference": "TDB"})
     assert resp.status_code == 422
     assert "element_type" in resp.text
+
+
+def test_query_parameters_take_the_element_type(client):
+    # GET /v1/budgets.csv reads the same element_type as the JSON body.
+    params = {**ELEMENTS, "start": "2027-03-01T00:00:00Z", "duration_days": 2.0, "reference": "TT",
+              "earth_zonal_degree": 4, "sun": False, "moon": False, "field": "mean_fractional_rate"}
+    for element_type in ("osculating", "mean"):
+        text = client.get("/v1/budgets.csv", params={**params, "element_type": element_type}).text
+        body = _post(client, _body(_kepler(element_type=element_type)))
+        assert float(text) == body["mean_fractional_rate"]
