@@ -19,7 +19,7 @@ from taubudget.physics.ephemeris import ephemeris, timescale
 
 from . import problems, schemas
 from .access import install_access_control, log_startup
-from .api import budgets, clock, contacts, health, reference
+from .api import budgets, clock, contacts, health, page, reference
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
 
@@ -122,7 +122,8 @@ def _openapi(app: FastAPI):
 def create_app(settings: Settings | None = None) -> FastAPI:
     """Build the service with ``settings`` (default: from TAUBUDGET_* environment variables)."""
     settings = settings or get_settings()
-    app = FastAPI(title="taubudget", version="0.1.0", description=DESCRIPTION, lifespan=lifespan)
+    app = FastAPI(title="taubudget", version="0.1.0", description=DESCRIPTION, lifespan=lifespan,
+                  docs_url=None, redoc_url=None)  # local docs: api/page.py
     app.state.settings = settings
     app.state.timescale_loaded = False
     app.state.ephemeris_loaded = False
@@ -134,6 +135,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(contacts.router)
     app.include_router(reference.router)
     app.include_router(health.router)
+    page.install(app)
     app.openapi = _openapi(app)
     return app
 

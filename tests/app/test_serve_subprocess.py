@@ -5,66 +5,28 @@ from __future__ import annotations
 import csv
 import io
 import json
-import os
-import socket
-import subprocess
-import sys
 import threading
 import time
-from pathlib import Path
 
 import httpx
 import pytest
+from support.server import ServerFailed, running_server
 from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST, EXAMPLE_REQUEST
 from taubudget.physics.budget import CAUTION
 
-REPO = Path(__file__).resolve().parents[2]
-STARTUP_TIMEOUT_S = 60.0  # imports plus loading DE421 on a busy 2-core machine
 # Kouba (2004), GPS Solutions 8(3):170-180: circular a = 26,561.4 km, point-mass Earth, vs TT.
 KOUBA_RATE_US_PER_DAY = 38.575008
 PUBLISHED_RATE_ROUNDING_US_PER_DAY = 1e-6  # published to 1 ps/day
 PROBE_LATENCY_LIMIT_S = 1.0  # well inside the 3 s probe timeout of deploy/k8s/deployment.yaml
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
 def server():
-    port = _free_port()
-    env = {**os.environ, "PYTHONPATH": str(REPO)}
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "taubudget.app.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
-         "--log-level", "warning"],
-        cwd=REPO, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
-    )
-    base = f"http://127.0.0.1:{port}"
     try:
-        deadline = time.monotonic() + STARTUP_TIMEOUT_S
-        with httpx.Client(base_url=base, timeout=5.0) as c:
-            while True:
-                if proc.poll() is not None:
-                    pytest.fail(f"server exited: {proc.stdout.read().decode(errors='replace')}")
-                try:
-                    if c.get("/readyz").status_code == 200:
-                        break
-                except httpx.TransportError:
-                    pass
-                if time.monotonic() > deadline:
-                    pytest.fail("server did not become ready")
-                time.sleep(0.1)
-        yield base
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=10)
-        except subprocess.TimeoutExpired:  # pragma: no cover
-            proc.kill()
-            proc.wait()
-        proc.stdout.close()
+        with running_server() as base:
+            yield base
+    except ServerFailed as exc:
+        pytest.fail(str(exc))
 
 
 def test_budget_batch_csv_and_field_over_http(server):
