@@ -6,6 +6,7 @@ import copy
 
 import pytest
 from fastapi.testclient import TestClient
+from support.server import ServerFailed, running_server
 from taubudget.app.main import create_app
 from taubudget.app.schemas import EXAMPLE_REQUEST
 from taubudget.app.settings import Settings
@@ -15,6 +16,16 @@ from taubudget.app.settings import Settings
 def client():
     with TestClient(create_app(Settings())) as c:
         yield c
+
+
+@pytest.fixture(scope="module")
+def server():
+    """A real `taubudget serve` subprocess on a free loopback port: its base URL."""
+    try:
+        with running_server() as base:
+            yield base
+    except ServerFailed as exc:
+        pytest.fail(str(exc))
 
 
 @pytest.fixture(scope="module")

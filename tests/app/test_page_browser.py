@@ -24,7 +24,6 @@ from selenium.webdriver.chrome.service import Service
 from selenium.webdriver.common.by import By
 from selenium.webdriver.support.ui import WebDriverWait
 from support.nist_sp1065 import NBS9_Y, TABLE_30
-from support.server import ServerFailed, running_server
 
 CHROMIUM = "/usr/bin/chromium"  # Debian's chromium package
 CHROMEDRIVER = "/usr/bin/chromedriver"  # Debian's chromium-driver package
@@ -33,15 +32,6 @@ SP1065_DIGITS_REL = 1e-6  # Table 30 is printed to 7 significant digits
 LOOPBACK = "127.0.0.1"
 # Schemes that never touch the network: inline data, object URLs made by the page, blank pages.
 LOCAL_SCHEMES = ("data", "blob", "about", "chrome", "devtools")
-
-
-@pytest.fixture(scope="module")
-def server():
-    try:
-        with running_server() as base:
-            yield base
-    except ServerFailed as exc:
-        pytest.fail(str(exc))
 
 
 @pytest.fixture(scope="module")

@@ -10,7 +10,6 @@ import time
 
 import httpx
 import pytest
-from support.server import ServerFailed, running_server
 from taubudget.app.schemas import EXAMPLE_BATCH_REQUEST, EXAMPLE_REQUEST
 from taubudget.physics.budget import CAUTION
 
@@ -18,15 +17,6 @@ from taubudget.physics.budget import CAUTION
 KOUBA_RATE_US_PER_DAY = 38.575008
 PUBLISHED_RATE_ROUNDING_US_PER_DAY = 1e-6  # published to 1 ps/day
 PROBE_LATENCY_LIMIT_S = 1.0  # well inside the 3 s probe timeout of deploy/k8s/deployment.yaml
-
-
-@pytest.fixture(scope="module")
-def server():
-    try:
-        with running_server() as base:
-            yield base
-    except ServerFailed as exc:
-        pytest.fail(str(exc))
 
 
 def test_budget_batch_csv_and_field_over_http(server):
