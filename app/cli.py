@@ -183,11 +183,35 @@ def cmd_stability(args) -> int:
         result = stability_from_data(column.values, data_type, tau0, args.confidence)
     except PhysicsInputError as exc:
         return _physics_failure(exc, "invalid input")
+    _plot(args.plot, "stability", result)
     if args.json:
         _print_json(result)
     else:
         print(render_stability(result))
     return 0
+
+
+def _figure_path(path: str) -> str:
+    """argparse type of --plot: the format comes from the extension, checked before any work."""
+    from .figures import figure_format
+
+    try:
+        figure_format(path)
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from exc
+    return path
+
+
+def _plot(path: str | None, kind: str, result: dict) -> None:
+    """Write the result's figure (matplotlib; SVG or PNG by extension) when --plot was given."""
+    if path is None:
+        return
+    from . import figures
+
+    draw = {"budget": figures.budget_figure, "contacts": figures.contact_plan_figure,
+            "stability": figures.stability_figure}[kind]
+    figures.write_figure(path, draw(result))
+    print(f"figure written to {path}", file=sys.stderr)
 
 
 def _print_json(obj) -> None:
@@ -247,6 +271,7 @@ def cmd_budget(args) -> int:
         result = budget_from_request(req)
     except PhysicsInputError as exc:
         return _physics_failure(exc, "invalid request")
+    _plot(args.plot, "budget", result)
     if args.json:
         _print_json(result)
     else:
@@ -290,6 +315,7 @@ def cmd_contacts(args) -> int:
         plan = contact_plan_from_request(req)
     except PhysicsInputError as exc:
         return _physics_failure(exc, "invalid request")
+    _plot(args.plot, "contacts", plan)
     if args.json:
         _print_json(plan)
     elif args.csv:
@@ -366,6 +392,9 @@ def cmd_serve(args) -> int:
     return 0
 
 
+_PLOT_HELP = "also write the figures to FILE (.svg or .png)"
+
+
 def build_parser() -> argparse.ArgumentParser:
     from .formats.files import FILE_TYPES
     from .measured_clock import PERIODIC_TERM_IN_DATA_DEFAULT
@@ -377,6 +406,7 @@ def build_parser() -> argparse.ArgumentParser:
     b = sub.add_parser("budget", help="compute a budget from a request JSON file ('-' for stdin)")
     b.add_argument("request")
     b.add_argument("--json", action="store_true", help="print the response JSON")
+    b.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     b.add_argument("--orbit-file", default=None,
                    help="take the orbit from this file (OMM, OPM, OEM, SP3, TLE; type detected); the "
                    "request's 'orbit', if any, holds only options such as object_id")
@@ -407,12 +437,14 @@ def build_parser() -> argparse.ArgumentParser:
                     help="sample interval, s; default: the file's '# sample_interval_s:' line")
     st.add_argument("--confidence", type=float, default=0.683, help="two-sided confidence of the bounds")
     st.add_argument("--json", action="store_true", help="print the response JSON")
+    st.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     st.set_defaults(func=cmd_stability)
     c = sub.add_parser("contacts", help="plan ground contacts and resynchronisation from a request JSON file")
     c.add_argument("request")
     fmt = c.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print the response JSON")
     fmt.add_argument("--csv", action="store_true", help="print the pass table as CSV")
+    c.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     c.set_defaults(func=cmd_contacts)
     sv = sub.add_parser("serve", help="run the HTTP service")
     sv.add_argument("--host", default=s.DEFAULT_HOST)

@@ -19,7 +19,7 @@ from taubudget.physics.ephemeris import ephemeris, timescale
 
 from . import problems, schemas
 from .access import install_access_control, log_startup
-from .api import budgets, clock, contacts, health, page, reference
+from .api import budgets, clock, contacts, figures, health, page, reference
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
 
@@ -131,6 +131,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.add_middleware(BodySizeLimit, max_bytes=settings.MAX_BODY_BYTES)
     install_access_control(app, settings)  # API keys, then CORS outermost
     app.include_router(budgets.router)
+    app.include_router(figures.router)
     app.include_router(clock.router)
     app.include_router(contacts.router)
     app.include_router(reference.router)

@@ -248,15 +248,9 @@ def _query_problem(errors: list[dict]) -> ProblemError:
     return ProblemError(**_problem_kwargs(validation_problem(errors, "The query")))
 
 
-@router.get(
-    "/budgets.csv",
-    summary="A budget as CSV, or one summary number as text",
-    response_class=Response,
-    responses=doc.csv_responses((400, 422)),
-)
-async def budget_csv(request: Request, q: Annotated[BudgetQuery, Query()], settings: SettingsDep,
-                     compute: ComputeDep):
-    """The budget of the request spelled as query parameters: CSV, or with field= one number."""
+async def budget_from_query(request: Request, q: BudgetQuery, settings,
+                            compute) -> tuple[BudgetRequest, dict]:
+    """The request spelled as query parameters, validated and computed (problems name the parameter)."""
     names = [k for k, _ in request.query_params.multi_items()]
     repeated = sorted({n for n in names if names.count(n) > 1})
     if repeated:
@@ -280,6 +274,19 @@ async def budget_csv(request: Request, q: Annotated[BudgetQuery, Query()], setti
         p = physics_problem(exc)
         p["errors"] = with_parameters(p["errors"])
         raise ProblemError(**_problem_kwargs(p)) from exc
+    return req, result
+
+
+@router.get(
+    "/budgets.csv",
+    summary="A budget as CSV, or one summary number as text",
+    response_class=Response,
+    responses=doc.csv_responses((400, 422)),
+)
+async def budget_csv(request: Request, q: Annotated[BudgetQuery, Query()], settings: SettingsDep,
+                     compute: ComputeDep):
+    """The budget of the request spelled as query parameters: CSV, or with field= one number."""
+    req, result = await budget_from_query(request, q, settings, compute)
     if q.field is not None:
         try:
             text = csv_format.field_text(result, q.field)

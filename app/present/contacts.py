@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 from taubudget.physics.budget import CAUTION
 
-from .budget import PS_PER_S, US_PER_S, ns, request_reference, us_per_day, utc, utc1
+from .budget import PS_PER_S, US_PER_S, ns, ns_list, request_reference, us_per_day, utc, utc1
 
 SIGNAL_POINTS = ("aos", "culmination", "los")
 
@@ -17,6 +17,24 @@ MODEL_NOTES = {
     "signal_path": "downlink satellite -> station; GCRS light time with Shapiro delay; Sagnac "
     "2 omega A / c^2; one-way shift to first order in 1/c^2 with first-order Doppler",
 }
+
+
+ENVELOPE_POINTS = 1500
+"""Grid samples of the k-sigma envelope in a contact plan's response (for figures), besides the
+two sides of every sync; ``worst_error_ns`` comes from the full simulation grid."""
+
+
+def envelope(sim, span) -> dict:
+    """The k-sigma envelope |error| + k sigma for figures: thinned grid samples (the value just
+    before each sync included) plus the value just after each sync, in time order."""
+    n = sim.t_s.size
+    keep = np.unique(np.concatenate([np.linspace(0, n - 1, min(n, ENVELOPE_POINTS)).round().astype(int),
+                                     np.searchsorted(sim.t_s, sim.sync_times_s)]))
+    t = np.concatenate([sim.t_s[keep], sim.sync_times_s])
+    bound = np.concatenate([sim.bound_s[keep], sim.bound_after_sync_s])
+    order = np.argsort(t, kind="stable")  # at a sync: the value before it, then after it
+    return {"time_utc": utc(span, t[order]), "elapsed_s": t[order].tolist(),
+            "bound_ns": ns_list(bound[order])}
 
 
 def signal_points(path, span) -> dict:
@@ -80,6 +98,7 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
         "worst_error_ns": ns(sim.worst_bound_s),
         "worst_error_time_utc": utc1(span, sim.worst_bound_time_s),
         "worst_gap_s": sim.worst_gap_s,
+        "envelope": envelope(sim, span),
         "meets_budget": sim.meets_budget,
         "time_error_budget_ns": req.time_error_budget_ns,
         "k_sigma": req.k_sigma,

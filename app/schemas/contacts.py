@@ -124,6 +124,13 @@ class SyncOut(_Open):
     time_since_previous_sync_s: float
 
 
+class EnvelopeOut(_Open):
+    time_utc: list[str]
+    elapsed_s: list[float] = Field(description="TT seconds since the span start")
+    bound_ns: list[float] = Field(description="|error| + k sigma with the policy's syncs, ns; at each sync "
+                                  "the value just before it, then just after it")
+
+
 class ContactPlanResponse(_Open):
     """Passes, syncs and whether the k-sigma time error stays inside the budget. Planning estimates."""
 
@@ -132,6 +139,9 @@ class ContactPlanResponse(_Open):
     worst_error_ns: float = Field(description="Largest |error| + k sigma between syncs, ns")
     worst_error_time_utc: str
     worst_gap_s: float
+    envelope: EnvelopeOut | None = Field(
+        None, description="The k-sigma envelope for figures: at most 1500 grid samples plus both sides "
+        "of every sync (worst_error_ns comes from the full grid)")
     meets_budget: bool
     time_error_budget_ns: float
     k_sigma: float

@@ -283,6 +283,7 @@
     }
     const src = env || ce.series, k = plan ? plan.k_sigma : ce.k_sigma;
     const x = src.time_utc.map(parseUtc);
+    for (let i = 1; i < x.length; i++) if (x[i] <= x[i - 1]) x[i] = x[i - 1] + 0.001; // after a sync: its own instant
     const tables = [[x, src.bound_ns, src.time_utc.map(() => budgetNs ?? null)]];
     const series = [{ label: `${k}-sigma bound, ns` }, { label: "budget, ns", stroke: "#a8231b", dash: [8, 4] }];
     if (plan) {
@@ -466,6 +467,11 @@
       const sheet = `=WEBSERVICE("${origin}/v1/budgets.csv?${one}")`;
       box.append(block("Spreadsheet cell (one number; change field= for another)", [sheet,
         `=IMPORTDATA("${origin}/v1/budgets.csv?${q}")   (the whole CSV, where the spreadsheet has IMPORTDATA)`]));
+      const fig = new URLSearchParams(q); fig.set("plot", "all");
+      const img = document.createElement("a");
+      Object.assign(img, { id: "figure-link", className: "button", href: `${origin}/v1/budgets.svg?${fig}`, textContent: "budget.svg" });
+      box.append(block("Figure for a report or wiki (GET /v1/budgets.svg or .png; plot=offset, terms, periodic, envelope or all)",
+        [img, `=IMAGE("${origin}/v1/budgets.png?${fig}")`]));
     } else box.append(block("Spreadsheet cell", "This request has no spelling as GET /v1/budgets.csv parameters (that route takes Keplerian, TLE or surface orbits, a named reference, gravity switches and a clock preset)."));
     const dl = [download("budget.json", JSON.stringify(budget, null, 2) + "\n", "application/json")];
     if (q) {
