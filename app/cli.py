@@ -193,7 +193,7 @@ def cmd_stability(args) -> int:
 
 def _figure_path(path: str) -> str:
     """argparse type of --plot: the format comes from the extension, checked before any work."""
-    from .figures import figure_format
+    from .present.figures import figure_format
 
     try:
         figure_format(path)
@@ -206,7 +206,7 @@ def _plot(path: str | None, kind: str, result: dict) -> None:
     """Write the result's figure (matplotlib; SVG or PNG by extension) when --plot was given."""
     if path is None:
         return
-    from . import figures
+    from .present import figures
 
     draw = {"budget": figures.budget_figure, "contacts": figures.contact_plan_figure,
             "stability": figures.stability_figure}[kind]

@@ -11,9 +11,9 @@ from fastapi.responses import Response
 from pydantic import Field
 from taubudget.physics.budget import CAUTION
 
-from .. import figures
 from ..compute import ComputeDep
 from ..deps import SettingsDep
+from ..present import figures
 from ..problems import ProblemError
 from . import openapi_doc as doc
 from .budgets import budget_from_query

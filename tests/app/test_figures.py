@@ -19,7 +19,7 @@ from defusedxml import ElementTree
 from matplotlib.image import imread
 from support.nist_sp1065 import NBS9_Y, TABLE_30
 from taubudget.app.cli import main
-from taubudget.app.figures import PNG_DPI
+from taubudget.app.present.figures import PNG_DPI
 from taubudget.physics.budget import CAUTION
 
 ROOT = Path(__file__).resolve().parents[2]
