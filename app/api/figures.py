@@ -8,7 +8,7 @@ from typing import Annotated, Literal
 from fastapi import APIRouter, Query, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import Response
-from pydantic import Field
+from pydantic import Field, field_validator
 from taubudget.physics.budget import CAUTION
 
 from ..compute import ComputeDep
@@ -26,9 +26,15 @@ _PARAMETER_OF = {"series_step_s": "series_step_s", "clock": "clock_preset"}
 class FigureQuery(BudgetQuery):
     """The CSV route's parameters (without ``field``) plus the choice of figure."""
 
+    field: str | None = Field(None, description="Not taken here (it belongs to /v1/budgets.csv): use plot=")
     plot: Literal[figures.BUDGET_PLOTS] = Field(  # type: ignore[valid-type]
         "all", description="offset, terms, periodic, envelope (needs clock_preset), or all that the budget "
         "can fill; offset and periodic need series_step_s")
+
+    @field_validator("field")
+    @classmethod
+    def _not_here(cls, value):
+        raise ValueError(f"field={value} belongs to /v1/budgets.csv; a figure route takes plot=")
 
 
 def _responses(media_type: str) -> dict:
@@ -39,10 +45,6 @@ def _responses(media_type: str) -> dict:
 
 
 async def _figure(fmt: str, request: Request, q: FigureQuery, settings, compute) -> Response:
-    if q.field is not None:
-        raise ProblemError(422, "Invalid request", "field= belongs to /v1/budgets.csv; a figure takes plot=.",
-                           errors=[{"pointer": "/field", "parameter": "field",
-                                    "detail": "not a parameter of the figure routes (use plot=)"}])
     _, result = await budget_from_query(request, q, settings, compute)
     try:
         image = await run_in_threadpool(lambda: figures.render(figures.budget_figure(result, q.plot), fmt))
