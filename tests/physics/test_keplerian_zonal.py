@@ -153,3 +153,18 @@ def test_bad_element_type_and_degree_are_refused(ts):
     with pytest.raises(PhysicsInputError) as err:
         KeplerianOrbit(start, 7000e3, 0.0, 0.0, 0, 0, 0, zonal_degree=1)
     assert err.value.field == "gravity.earth_zonal_degree"
+
+
+def test_mean_elements_agree_with_the_state_vector_path_from_their_epoch_state(ts):
+    # Mean elements: the integration started from the theory's own state at the epoch (whose
+    # energy is the virial energy the speed is built from) has the same mean rate (issue 10 (a)).
+    start = ts.utc(2027, 3, 1)
+    span = Span(start, 2 * SECONDS_PER_DAY)
+    env = environment_for(span)
+    kep = KeplerianOrbit(start, 6878.0e3, 0.001, 51.6, 30.0, 40.0, 10.0, element_type="mean", zonal_degree=4)
+    st = kep.states(span, np.array([0.0]), env.orientation)
+    num = NumericalOrbit(start, st.r_gcrs_m[0], st.v_gcrs_m_per_s[0], zonal_degree=4, sun=False, moon=False)
+    gravity = GravityModel(4, sun=False, moon=False)
+    ours = compute_budget(BudgetInputs(kep, "TT", span, gravity)).secular_rate_per_tt_s
+    numerical = compute_budget(BudgetInputs(num, "TT", span, gravity)).secular_rate_per_tt_s
+    assert abs(ours - numerical) < MEAN_RATE_AGREEMENT
