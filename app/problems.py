@@ -59,6 +59,14 @@ class ProblemError(Exception):
         self.headers = headers
         self.extra = extra
 
+    @classmethod
+    def from_problem(cls, p: dict) -> ProblemError:
+        """The exception that renders as the problem dict ``p`` (``problem``, ``validation_problem``,
+        ``physics_problem``): the one way from a problem object to a raised error."""
+        core = {"type", "title", "status", "detail", "errors", "instance"}
+        return cls(p["status"], p["title"], p["detail"], p["type"], p["errors"],
+                   **{k: v for k, v in p.items() if k not in core})
+
     def to_dict(self, instance: str | None = None) -> dict:
         return problem(self.status, self.title, self.detail, self.type, self.errors, instance,
                        **self.extra)

@@ -25,6 +25,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from .constants import SECONDS_PER_DAY
+
 _DEG = np.pi / 180.0
 
 # (coefficient_deg, argument index) for alpha0 (sin), delta0 (cos), W (sin).
@@ -41,10 +43,10 @@ _MOON_DELTA = np.array([1.5419, 0.0239, -0.0278, 0.0068, 0.0, -0.0029, 0.0009, 0
 _MOON_W = np.array([3.5610, 0.1208, -0.0642, 0.0158, 0.0252, -0.0066, -0.0047, -0.0046, 0.0028, 0.0052,
                     0.0040, 0.0019, -0.0044])
 
-MOON_ROTATION_RATE_RAD_PER_S = 13.17635815 * _DEG / 86400.0
+MOON_ROTATION_RATE_RAD_PER_S = 13.17635815 * _DEG / SECONDS_PER_DAY
 """Mean sidereal rotation rate of the Moon, rad/s (Archinal et al. 2011, Table 2)."""
 
-MARS_ROTATION_RATE_RAD_PER_S = 350.89198226 * _DEG / 86400.0
+MARS_ROTATION_RATE_RAD_PER_S = 350.89198226 * _DEG / SECONDS_PER_DAY
 """Sidereal rotation rate of Mars, rad/s (Archinal et al. 2011, Table 1)."""
 
 

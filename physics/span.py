@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .constants import SECONDS_PER_DAY
+from .constants import SECONDS_PER_DAY, TT_MINUS_TAI_S
 
 
 @dataclass(frozen=True)
@@ -25,10 +25,6 @@ class Span:
     @property
     def ts(self):
         return self.start.ts
-
-    @property
-    def end(self):
-        return self.times(np.float64(self.duration_s))
 
     def times(self, t_s):
         """Skyfield Time at ``t_s`` TT seconds after the start (scalar or array)."""
@@ -49,7 +45,7 @@ class Span:
         TAI - UTC looked up only at the span's ends when no leap second falls inside it.
         """
         t_s = np.asarray(t_s, dtype=float)
-        tai_fraction = self.start.tt_fraction - 32.184 / SECONDS_PER_DAY + t_s / SECONDS_PER_DAY
+        tai_fraction = self.start.tt_fraction - TT_MINUS_TAI_S / SECONDS_PER_DAY + t_s / SECONDS_PER_DAY
         ends = self.times(np.array([0.0, float(self.duration_s)]))
         leap = ends._leap_seconds()
         if leap[0] == leap[1]:

@@ -46,12 +46,7 @@ def _validate(body: Any) -> BudgetRequest:
     try:
         return BudgetRequest.model_validate(body)
     except ValidationError as exc:
-        raise ProblemError(**_problem_kwargs(validation_problem(validation_errors(exc, body)))) from exc
-
-
-def _problem_kwargs(p: dict) -> dict:
-    return {"status": p["status"], "title": p["title"], "detail": p["detail"], "type_": p["type"],
-            "errors": p["errors"]}
+        raise ProblemError.from_problem(validation_problem(validation_errors(exc, body))) from exc
 
 
 @router.post(
@@ -163,8 +158,8 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
     try:
         batch = BatchRequest.model_validate(payload)
     except ValidationError as exc:
-        raise ProblemError(**_problem_kwargs(validation_problem(validation_errors(exc, payload),
-                                                                "The batch"))) from exc
+        raise ProblemError.from_problem(validation_problem(validation_errors(exc, payload),
+                                                           "The batch")) from exc
     if len(batch.items) > settings.MAX_BATCH_ITEMS:
         raise ProblemError(
             413, "Batch too large",
@@ -245,7 +240,7 @@ _FIELD_HINTS = {
 
 def _query_problem(errors: list[dict]) -> ProblemError:
     errors = with_parameters(errors)
-    return ProblemError(**_problem_kwargs(validation_problem(errors, "The query")))
+    return ProblemError.from_problem(validation_problem(errors, "The query"))
 
 
 async def budget_from_query(request: Request, q: BudgetQuery, settings,
@@ -273,7 +268,7 @@ async def budget_from_query(request: Request, q: BudgetQuery, settings,
     except PhysicsInputError as exc:
         p = physics_problem(exc)
         p["errors"] = with_parameters(p["errors"])
-        raise ProblemError(**_problem_kwargs(p)) from exc
+        raise ProblemError.from_problem(p) from exc
     return req, result
 
 

@@ -30,7 +30,7 @@ _QUERY_NAMES = ("data_type", "sample_interval_s", "confidence")
 
 def _invalid(errors: list[dict], what: str = "The request") -> ProblemError:
     p = validation_problem(errors, what)
-    return ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"])
+    return ProblemError.from_problem(p)
 
 
 async def _upload_text(request: Request) -> str:

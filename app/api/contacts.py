@@ -44,7 +44,7 @@ def _validate(body: Any) -> ContactPlanRequest:
         return ContactPlanRequest.model_validate(body)
     except ValidationError as exc:
         p = validation_problem(validation_errors(exc, body))
-        raise ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"]) from exc
+        raise ProblemError.from_problem(p) from exc
 
 
 @router.post(

@@ -77,7 +77,7 @@ def _problem(status: int, title: str, detail: str, errors: list[dict], type_: st
 
 def _invalid(errors: list[dict], what: str = "The upload") -> ProblemError:
     p = validation_problem(errors, what)
-    return ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"])
+    return ProblemError.from_problem(p)
 
 
 def _decode(raw: bytes, part: str) -> str:
@@ -284,13 +284,13 @@ def budget_body(up: Upload) -> tuple[dict, Parts]:
 def upload_physics_problem(exc: PhysicsInputError, parts: Parts, prefix: str = "") -> ProblemError:
     p = physics_problem(exc, prefix)
     p["errors"] = parts.annotate(p["errors"])
-    return ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"])
+    return ProblemError.from_problem(p)
 
 
 def upload_validation_problem(exc: ValidationError, body: dict, parts: Parts,
                               what: str = "The request") -> ProblemError:
     p = validation_problem(parts.annotate(validation_errors(exc, body)), what)
-    return ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"])
+    return ProblemError.from_problem(p)
 
 
 @dataclass

@@ -39,10 +39,6 @@ from .ndm import Keywords, LineFinder, kvn_items, root_messages, xml_items
 
 ELEMENT_KEYS = ("MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE", "ARG_OF_PERICENTER",
                 "MEAN_ANOMALY")
-TLE_KEYS = ("EPHEMERIS_TYPE", "CLASSIFICATION_TYPE", "NORAD_CAT_ID", "ELEMENT_SET_NO", "REV_AT_EPOCH",
-            "BSTAR", "MEAN_MOTION_DOT", "MEAN_MOTION_DDOT")
-JSON_KEYS = ("OBJECT_NAME", "OBJECT_ID", "EPOCH") + ELEMENT_KEYS + TLE_KEYS
-"""The 17 keys of the JSON/CSV rendering."""
 
 UNITS = {"MEAN_MOTION": ("rev/day",), "INCLINATION": ("deg",), "RA_OF_ASC_NODE": ("deg",),
          "ARG_OF_PERICENTER": ("deg",), "MEAN_ANOMALY": ("deg",), "BSTAR": ("1/er", "1/ER"),

@@ -42,6 +42,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import brentq
 
+from ..constants import SECONDS_PER_DAY  # the day of drift_per_day
 from .powerlaw import NOISE_NAMES
 
 __all__ = [
@@ -54,8 +55,6 @@ __all__ = [
     "max_free_running_s",
 ]
 
-SECONDS_PER_DAY = 86_400.0
-"""Seconds in a day of 86 400 SI seconds (definition of the day used for drift_per_day)."""
 
 _LN2 = math.log(2.0)
 

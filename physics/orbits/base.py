@@ -28,10 +28,6 @@ class States:
     sin_lat: np.ndarray | None = None  # Earth-fixed geocentric sin(latitude), when the source has it
 
     @property
-    def ok(self) -> np.ndarray:
-        return self.code == 0
-
-    @property
     def r_m(self) -> np.ndarray:
         """Position in this States' ``frame``, m."""
         return self.r_gcrs_m

@@ -40,7 +40,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
+from ..constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2, SECONDS_PER_DAY
 from ..errors import PhysicsInputError
 from .base import OrbitSource, States
 
@@ -192,7 +192,7 @@ class EphemerisTable(OrbitSource):
         for seg in self.segments:
             t = self.reference_time.ts.tt_jd(
                 self.reference_time.whole,
-                self.reference_time.tt_fraction + np.array([seg.start_s, seg.stop_s]) / 86400.0,
+                self.reference_time.tt_fraction + np.array([seg.start_s, seg.stop_s]) / SECONDS_PER_DAY,
             )
             out.append(tuple(s.replace(" ", "T") for s in t.utc_strftime("%Y-%m-%dT%H:%M:%SZ")))
         return out

@@ -149,14 +149,6 @@ def _zonal_acceleration_one(x: float, y: float, z: float, px: float, py: float, 
 _J = {n: EGM2008_J[n] for n in EGM2008_J}
 
 
-def third_body_acceleration(r_m: np.ndarray, body_m: np.ndarray, gm_m3_per_s2: float) -> np.ndarray:
-    """Geocentric third-body acceleration, m/s^2, (N, 3) (Montenbruck & Gill 2000, eq. 3.37)."""
-    d = body_m - r_m
-    dn = np.linalg.norm(d, axis=-1)[..., None]
-    bn = np.linalg.norm(body_m, axis=-1)[..., None]
-    return gm_m3_per_s2 * (d / dn**3 - body_m / bn**3)
-
-
 def osculating_elements(r_m: np.ndarray, v_m_per_s: np.ndarray, gm_m3_per_s2: float):
     """(a_m, e, i_rad) of a state (Vallado, 4th ed., algorithm 9, the parts we need)."""
     r = np.asarray(r_m, dtype=float)

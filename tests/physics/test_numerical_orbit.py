@@ -65,7 +65,7 @@ def test_two_body_states_match_kepler(ts):
     ref = kep.states(span, t_s / (1.0 - L_G), None)
     assert np.max(np.linalg.norm(st.r_gcrs_m - ref.r_gcrs_m, axis=1)) < ONE_CENTIMETRE_M
     assert np.max(np.linalg.norm(st.v_gcrs_m_per_s - ref.v_gcrs_m_per_s, axis=1)) < 1e-5
-    assert st.ok.all()
+    assert (st.code == 0).all()
 
 
 def test_two_body_energy_conserved_over_30_days(ts):

@@ -74,7 +74,8 @@ def test_passes_match_skyfield_find_events(setup):
     span, sat, passes = setup
     for k, sta in enumerate(STATIONS):
         topos = wgs84.latlon(sta.latitude_deg, sta.longitude_deg, elevation_m=sta.height_m)
-        t, events = sat.find_events(topos, span.start, span.end, altitude_degrees=sta.elevation_mask_deg)
+        t, events = sat.find_events(topos, span.start, span.times(span.duration_s),
+                                    altitude_degrees=sta.elevation_mask_deg)
         t_s = span.seconds_after_start(t)
         rises, sets = t_s[events == 0], t_s[events == 2]
         culm = t_s[events == 1]
@@ -100,7 +101,7 @@ def test_grazing_pass_between_grid_samples_is_found(ts, setup):
     sta = GroundStation("Test High Mask", 46.5, 8.0, 1500.0, 20.0)
     ours = find_passes(src, span, [sta], environment_for(span).orientation, step_s=300.0)
     topos = wgs84.latlon(sta.latitude_deg, sta.longitude_deg, elevation_m=sta.height_m)
-    t, events = sat.find_events(topos, span.start, span.end, altitude_degrees=20.0)
+    t, events = sat.find_events(topos, span.start, span.times(span.duration_s), altitude_degrees=20.0)
     rises = span.seconds_after_start(t)[events == 0]
     assert len(ours) == len(rises)
     np.testing.assert_allclose([p.aos_s for p in ours], rises, atol=ONE_SECOND_S, rtol=0)
