@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import json
-from pathlib import Path
+from importlib.resources import files
 from typing import Any
 
 from fastapi import APIRouter
@@ -20,14 +20,10 @@ from . import openapi_doc as doc
 
 router = APIRouter(prefix="/v1", tags=["contacts"])
 
-_SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"
-
 
 def _example(name: str) -> dict:
-    try:
-        return json.loads((_SAMPLES / name).read_text())
-    except OSError:  # an installed copy without the samples: no example, same behaviour
-        return {}
+    """A worked request shipped with the package (app/examples/, package data in the wheel)."""
+    return json.loads(files("taubudget.app").joinpath("examples", name).read_text(encoding="utf-8"))
 
 
 EXAMPLE_CONTACT_PLAN_MEO = _example("contact_plan_meo.json")

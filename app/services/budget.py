@@ -112,7 +112,10 @@ def _link_station(req: BudgetRequest):
 
 
 def budget_from_request(req: BudgetRequest, settings: Settings | None = None, source=None) -> dict:
-    """Compute the budget JSON for one request (``source``: see ``budget_inputs``)."""
+    """Compute the budget JSON for one request, a ``BudgetRequest`` or the API's JSON as a dict
+    (``source``: see ``budget_inputs``)."""
+    if not isinstance(req, BudgetRequest):
+        req = BudgetRequest.model_validate(req)
     inputs = budget_inputs(req, settings, source)
     # Refuse an unusable clock block before the integration runs, and build its model once.
     model = clock_model(req.clock) if req.clock is not None else None
@@ -169,3 +172,11 @@ def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=
         source = build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
     span = build_span(req, settings)
     return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / initial_panel_s(source)))
+
+
+def budget_result(request, settings: Settings | None = None):
+    """The typed ``physics.budget.BudgetResult`` of a request given as the API's JSON (a dict) or a
+    ``BudgetRequest``: the same validation and limits as ``POST /v1/budgets``, no presentation.
+    Raises pydantic's ``ValidationError`` or ``PhysicsInputError`` for unusable input."""
+    req = request if isinstance(request, BudgetRequest) else BudgetRequest.model_validate(request)
+    return budget_mod.compute_budget(budget_inputs(req, settings))

@@ -59,8 +59,17 @@ def preset_fractional(mean_fractional_rate: float) -> float:
     return -mean_fractional_rate / (1.0 + mean_fractional_rate)
 
 
-def compute_budget(inputs: BudgetInputs) -> BudgetResult:
-    """The drift budget of ``inputs.source`` against ``inputs.reference`` over ``inputs.span``."""
+def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -> BudgetResult:
+    """The drift budget of ``inputs.source`` against ``inputs.reference`` over ``inputs.span``.
+
+    Also ``compute_budget(source, reference, span, gravity=None, **options)``: the same with the
+    ``BudgetInputs`` fields given directly (``gravity`` defaults to ``GravityModel()``).
+    """
+    if not isinstance(inputs, BudgetInputs):
+        if span is None or reference is None:
+            raise TypeError("compute_budget(source, reference, span) needs a reference and a Span")
+        extra = {} if gravity is None else {"gravity": gravity}
+        inputs = BudgetInputs(inputs, reference, span, **extra, **options)
     single_threaded_blas()
     span, src = inputs.span, inputs.source
     check_span(span)
