@@ -7,18 +7,22 @@ SI units throughout. Sources are abbreviated as:
   table or equation is named.
 - IAU2009: IAU 2009 System of Astronomical Constants (Luzum et al. 2011,
   Celest. Mech. Dyn. Astr. 110:293), as reproduced in TN36 Table 1.1.
-- DE421: Folkner, Williams & Boggs (2009), "The Planetary and Lunar
-  Ephemeris DE 421", JPL IOM 343R-08-003, Table 4 (GM values in km^3/s^2,
-  TDB-compatible).
+- DE421: Folkner, Williams & Boggs (2008), "The Planetary and Lunar
+  Ephemeris DE 421", JPL IOM 343R-08-003 (IPN Progress Report 42-178); its
+  mass parameters (GM in km^3/s^2, TDB-compatible) as published in IERS
+  Conventions 2010 (TN36) Table 3.1, and its astronomical unit
+  149597870.6996262 km (TN36 section 3.1); checked in
+  tests/physics/test_against_published_constants.py.
 - GRS80: H. Moritz, "Geodetic Reference System 1980", Bulletin Geodesique
   54 (1980) 395, and J. Geodesy 74 (2000) 128 (defining and derived
   constants).
 - WGS84: NIMA TR8350.2, "Department of Defense World Geodetic System 1984",
   3rd ed. (2000), Tables 3.1 and 3.3.
 - EGM2008: Pavlis, Holmes, Kenyon & Factor (2012), J. Geophys. Res. 117,
-  B04406; fully normalised tide-free zonal coefficients C(n,0) of the
-  published coefficient file (values from memory, checked against a
-  published copy of that file's header lines).
+  B04406; fully normalised tide-free coefficients of the released
+  coefficient file EGM2008.gfc (n, m = 2..4 checked digit for digit in
+  tests/physics/test_against_published_constants.py; C50, C60 as carried by
+  the IERS Conventions 2010 software for EGM2008).
 - IS-GPS-200: Navstar GPS Space Segment / Navigation User Interfaces,
   IS-GPS-200 (revision N), section 20.3.3.3.3.1 and Table 20-IV.
 """
@@ -88,7 +92,13 @@ EGM2008_NORMALIZED_ZONALS = {
     5: 0.686702913736681e-7,
     6: -0.149953927978527e-6,
 }
-"""Fully normalised C(n,0), tide-free, dimensionless, n = 2..6 (EGM2008, from memory; see module doc)."""
+"""Fully normalised C(n,0), tide-free, dimensionless, n = 2..6 (EGM2008 coefficient file)."""
+
+EGM2008_C22 = 0.243938357328313e-05
+"""Fully normalised C(2,2), tide-free, dimensionless (EGM2008 coefficient file)."""
+
+EGM2008_S22 = -0.140027370385934e-05
+"""Fully normalised S(2,2), tide-free, dimensionless (EGM2008 coefficient file)."""
 
 EGM2008_J = {n: -math.sqrt(2 * n + 1) * c for n, c in EGM2008_NORMALIZED_ZONALS.items()}
 """Unnormalised zonal coefficients J_n = -sqrt(2n+1) C(n,0), dimensionless (EGM2008; standard
@@ -136,22 +146,23 @@ GRS80_GAMMA_P_M_PER_S2 = 9.8321863685
 """GRS80 normal gravity at the poles, m/s^2 (GRS80, derived constants)."""
 
 GRS80_PUBLISHED_J = {2: 1.08263e-3, 4: -0.00000237091222, 6: 0.00000000608347, 8: -0.00000000001427}
-"""GRS80 zonal harmonics J2..J8 of the normal field, dimensionless (GRS80, derived constants; J8
-from memory);
-the code computes them from the closed form and tests against these."""
+"""GRS80 zonal harmonics J2..J8 of the normal field, dimensionless (GRS80, derived constants, Moritz
+2000); the code computes them from the closed form (Moritz 2000 eq. for J2n) and tests against these,
+J8 included (tests/physics/test_against_grs80.py)."""
 
 # --- Solar system bodies (DE421 GM values, TDB-compatible) --------------------
 
 _KM3 = 1e9  # km^3 -> m^3
 
 GM_SUN_M3_PER_S2 = 132_712_440_040.944 * _KM3
-"""Heliocentric gravitational constant, m^3/s^2 (DE421 Table 4)."""
+"""Heliocentric gravitational constant, m^3/s^2 (DE421: k^2 au^3/day^2 with Gauss's k = 0.01720209895
+and DE421's au of 149597870.6996262 km, TN36 section 3.1)."""
 
 GM_MOON_M3_PER_S2 = 4_902.800_076 * _KM3
-"""Lunar gravitational constant, m^3/s^2 (DE421 Table 4)."""
+"""Lunar gravitational constant, m^3/s^2 (DE421, TN36 Table 3.1)."""
 
 GM_EARTH_DE421_M3_PER_S2 = 398_600.436_233 * _KM3
-"""Earth GM as used in DE421, m^3/s^2 (DE421 Table 4); for barycentric sums only."""
+"""Earth GM as used in DE421, m^3/s^2 (DE421, TN36 Table 3.1); for barycentric sums only."""
 
 GM_PLANET_SYSTEMS_M3_PER_S2 = {
     "mercury": 22_032.090 * _KM3,
@@ -162,7 +173,7 @@ GM_PLANET_SYSTEMS_M3_PER_S2 = {
     "uranus": 5_794_548.6 * _KM3,
     "neptune": 6_836_535.0 * _KM3,
 }
-"""GM of planetary systems (planet plus satellites), m^3/s^2 (DE421 Table 4, from memory)."""
+"""GM of planetary systems (planet plus satellites), m^3/s^2 (DE421, TN36 Table 3.1)."""
 
 MOON_MEAN_RADIUS_M = 1_737_400.0
 """Mean radius of the Moon, m (IAU WGCCRE 2015, Archinal et al. 2018, Celest. Mech. 130:22)."""
@@ -233,9 +244,9 @@ MEAN_MOON_DISTANCE_M = 384_400e3
 VENUS_CLOSEST_DISTANCE_M = 4.1e10
 """Earth-Venus distance near inferior conjunction, m (common practice; ~0.27 au)."""
 
-EGM2008_C22_S22_NORMALIZED = 2.8e-6
-"""Size of the normalised degree-2 sectoral coefficients sqrt(C22^2 + S22^2) of EGM2008,
-dimensionless (from memory; only sizes an omitted term)."""
+EGM2008_C22_S22_NORMALIZED = math.hypot(EGM2008_C22, EGM2008_S22)
+"""Size of the normalised degree-2 sectoral coefficients sqrt(C22^2 + S22^2) of EGM2008, 2.8127e-6,
+dimensionless (EGM2008 coefficient file; sizes an omitted term)."""
 
 MOON_J2 = 2.03e-4
 """Lunar J2, dimensionless (common practice; only sizes an omitted term)."""

@@ -62,7 +62,7 @@ class NodeRates:
     r_dot_v_m2_per_s: np.ndarray
     code: np.ndarray
     messages: dict[int, str]
-    v_earth_dot_r_m2_per_s: np.ndarray | None = None  # BCRS: v_E . (x - x_E), for the position term
+    values: dict[str, np.ndarray] | None = None  # BCRS: node values of the known bounded parts
 
     @property
     def total(self) -> np.ndarray:

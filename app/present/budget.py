@@ -18,9 +18,11 @@ US_PER_S = 1e6
 PS_PER_S = 1e12
 
 POSITION_TERM_NOTE = (
-    "-(v_B.(x - x_B))/c^2 with B the Earth (the Moon for lunar_surface): for TT the part of TCB - TCG "
-    "that TT along the geocentre leaves out (TN36 eq. 10.4); a bounded total derivative, kept in the "
-    "offset and the periodic part, removed before the secular fit (only for clocks within 2e6 km of B)"
+    "coordinate position term -(v_B.(x - x_B))/c^2 of the clock's local frames (the geocentre, and the "
+    "Moon inside it, for the Earth-Moon system; Mars for Mars) minus the reference's (the Moon's centre "
+    "for lunar_surface): the part of TCB - TCG that TT along the geocentre leaves out (TN36 eq. 10.4); "
+    "a bounded total derivative, kept in the offset and in periodic.amplitude_with_position_term_ns, "
+    "removed before the secular fit and from periodic.amplitude_ns"
 )
 
 
@@ -80,6 +82,8 @@ def budget(b: BudgetResult, reference) -> dict:
     days = span.duration_s / SECONDS_PER_DAY
     omitted = omitted_terms(b.omitted_terms)
     correction = {
+        "applicable": ecc.applicable,
+        "applied": ecc.applied,
         "amplitude_ns": ns(ecc.amplitude_s),
         "residual_after_correction_ns": ns(ecc.residual_after_correction_s),
         "residual_peak_to_peak_ns": ns(ecc.residual_peak_to_peak_s),
@@ -105,6 +109,13 @@ def budget(b: BudgetResult, reference) -> dict:
             "dominant_period_s": per.dominant_period_s,
             "components": [{"period_s": c.period_s, "amplitude_ns": ns(c.amplitude_s)}
                            for c in per.components],
+            "position_term_amplitude_ns": ns(per.position_term_amplitude_s),
+            "amplitude_with_position_term_ns": ns(per.amplitude_with_position_term_s
+                                                  if per.amplitude_with_position_term_s is not None
+                                                  else per.amplitude_s),
+            "peak_to_peak_with_position_term_ns": ns(per.peak_to_peak_with_position_term_s
+                                                     if per.peak_to_peak_with_position_term_s is not None
+                                                     else per.peak_to_peak_s),
         },
         "eccentricity_correction": correction,
         "integration_error_estimate_ps": b.integration.error_estimate_s * PS_PER_S,

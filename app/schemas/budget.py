@@ -41,7 +41,9 @@ class BudgetRequest(_Strict):
         description="Allowed |time error| after a sync, ns; gives max_free_running_s (needs clock)")
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic time error")
     apply_eccentricity_correction: bool = Field(
-        True, description="The user segment removes the eccentricity term -(2/c^2) r.v from the residual")
+        True, description="The user segment removes the eccentricity term -(2/c^2) r.v around the "
+        "clock's own centre from the residual (where one is offered: not for a clock fixed on the "
+        "Moon or Mars); false keeps it in the residual and the clock error")
     monte_carlo_runs: int | None = Field(
         None, ge=10, le=5000, description="Simulated noise realisations (Kasdin-Walter) for the "
         "probability that |time error| exceeds time_error_budget_ns within the span (needs clock)")
@@ -63,13 +65,28 @@ class BudgetRequest(_Strict):
 
 
 class PeriodicOut(_Open):
-    amplitude_ns: float = Field(description="Half the peak-to-peak periodic offset after the preset, ns")
+    amplitude_ns: float = Field(
+        description="The clock's own periodic part: half the peak-to-peak offset after the preset, "
+        "without the coordinate position term (BCRS budgets), ns; extremes refined between samples")
     peak_to_peak_ns: float
     dominant_period_s: float | None = Field(description="Period of the largest periodic component, s")
+    position_term_amplitude_ns: float = Field(
+        0.0, description="Half the peak-to-peak coordinate position term -(v_B.(x - x_B))/c^2 "
+        "(TN36 eq. 10.4) of the clock minus the reference's; 0 in the GCRS, ns")
+    amplitude_with_position_term_ns: float | None = Field(
+        None, description="Half the peak-to-peak periodic offset after the preset, position term "
+        "included (what the offset series shows), ns")
+    peak_to_peak_with_position_term_ns: float | None = None
 
 
 class EccentricityCorrectionOut(_Open):
-    amplitude_ns: float = Field(description="Amplitude of -(2/c^2) r.v over the span, ns")
+    applicable: bool = Field(
+        True, description="Whether a user-segment correction -(2/c^2) r.v around the clock's own "
+        "centre exists (false for a clock fixed on the Moon or Mars)")
+    applied: bool = Field(
+        True, description="Whether the residual figures include it (applicable and "
+        "apply_eccentricity_correction)")
+    amplitude_ns: float = Field(description="Amplitude of -(2/c^2) r.v over the span (extremes refined), ns")
     residual_after_correction_ns: float
     residual_peak_to_peak_ns: float
     formula: str
@@ -87,7 +104,9 @@ class SeriesOut(_Open):
     elapsed_s: list[float]
     offset_ns: list[float] = Field(description="Accumulated offset, clock minus reference, ns")
     periodic_ns: list[float]
-    eccentricity_term_ns: list[float]
+    eccentricity_term_ns: list[float] = Field(
+        description="The absolute eccentricity term -(2/c^2) r.v at each time, as IS-GPS-200's "
+        "F e sqrt(A) sin E (not counted from the span start); 0 where no correction is offered, ns")
 
 
 class BudgetResponse(_Open):

@@ -74,6 +74,7 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
         max_nodes=settings.MAX_NODES, max_series_points=settings.MAX_SERIES_POINTS,
         frame=None if req.frame == "auto" else req.frame,
         link_station=_link_station(req),
+        apply_eccentricity_correction=req.apply_eccentricity_correction,
     )
 
 

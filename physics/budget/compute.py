@@ -18,6 +18,7 @@ from ..cancel import checkpoint
 from ..constants import C2_M2_PER_S2
 from ..environment import environment_for
 from ..errors import PhysicsInputError
+from ..extrema import refined_peak_to_peak
 from ..frames.choose import build_frame
 from ..quadrature import NodeBudgetExceeded, integrate
 from ..threads import single_threaded_blas
@@ -35,6 +36,8 @@ from .result import (
 )
 
 ECCENTRICITY_FORMULA = "delta_t = -(2/c^2) r.v (TN36 eq. 10.10; IS-GPS-200 F e sqrt(A) sin E)"
+NOT_OFFERED_FORMULA = ("not offered: a clock fixed on a body has no orbit of its own around a central body "
+                       "(the host body's orbital term is removed before the secular fit instead)")
 
 
 def _integrate(frame, inputs: BudgetInputs):
@@ -80,24 +83,44 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     q = _integrate(frame, inputs)
     parts = frame.bounded_parts(q)
     ecc_part = parts[0]
+    # The series gives the absolute eccentricity term -(2/c^2) r.v (IS-GPS-200), not the part's
+    # offset from the span start: the part's start value, r.v(0) scaled.
+    ecc_start_s = frame.eccentricity_start_s(q)
     period = src.period_s()
     fit = fit_secular(q, frame.term_names, parts, period)
     y_ref = frame.mean_reference_rate(fit.term_rates)
     mean_rate = fit.rate / (1.0 + y_ref)
 
-    # Extremes and amplitudes on the fine grid: the total and the bounded parts.
+    # Extremes and amplitudes on the fine grid (refined between samples): the total and the
+    # bounded parts.
     fine = per.FINE_POINTS_PER_PANEL
     t = q.fine_grid_s(fine)
     weights = trapezoid_weights(t)
     total = q.cumulative_on_fine_grid(fine, rows=[0])[0]
+    offered = getattr(frame, "offers_eccentricity_correction", True)
+    applied = offered and inputs.apply_eccentricity_correction
     ecc = ecc_part.on_grid(q, fine)
     line = fit.rate * (t - 0.5 * span.duration_s)
     shift = per.weighted_mean(total - line, weights)
     periodic = total - line - shift
-    residual = periodic - ecc + per.weighted_mean(ecc, weights)
+    residual = periodic - (ecc - per.weighted_mean(ecc, weights) if applied else 0.0)
     harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
     comps = per.components(periodic, t, period, harmonics, span.duration_s)
-    position = next((p for p in parts if p.name == "position_term"), None)
+    position = frame.position_term_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
+
+    def periodic_at(ts):
+        return q.cumulative_at(ts, rows=[0])[0] - fit.rate * ts
+
+    def own_periodic_at(ts):
+        return periodic_at(ts) - (frame.position_term_s(q, ts) if frame.name == "BCRS" else 0.0)
+
+    def residual_at(ts):
+        return periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
+
+    p2p = refined_peak_to_peak(periodic_at, t, periodic)
+    own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - position)
+    residual_p2p = refined_peak_to_peak(residual_at, t, residual)
+    ecc_amp = 0.5 * refined_peak_to_peak(ecc_part.offset_s, t, ecc) if offered else 0.0
     i_ext = int(np.argmax(np.abs(total)))
     analytic = None
     if src.kind == "keplerian":
@@ -111,7 +134,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
             ts = np.append(ts, span.duration_s)
         offset = q.cumulative_at(ts, rows=[0])[0]
         series = Series(ts, offset, offset - fit.rate * (ts - 0.5 * span.duration_s) - shift,
-                        ecc_part.offset_s(ts),
+                        ecc_part.offset_s(ts) + ecc_start_s,
                         frame.signal_path(ts, inputs.link_station) if frame.name == "BCRS" else None)
 
     included = [n for i, n in enumerate(frame.term_names) if np.any(q.values[1 + i] != 0.0)]
@@ -128,15 +151,14 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
         offset_at_end_s=float(q.edge_cumulative[0, -1]), offset_extreme_s=float(total[i_ext]),
         offset_extreme_t_s=float(t[i_ext]), offset_min_s=float(total.min()),
         offset_max_s=float(total.max()),
-        periodic=PeriodicPart(per.half_peak_to_peak(periodic), float(periodic.max() - periodic.min()),
-                              comps[0].period_s if comps else None, comps),
+        periodic=PeriodicPart(0.5 * own_p2p, own_p2p, comps[0].period_s if comps else None, comps,
+                              per.half_peak_to_peak(position), 0.5 * p2p, p2p),
         eccentricity_correction=EccentricityCorrection(
-            per.half_peak_to_peak(ecc), float(np.max(np.abs(residual))),
-            float(residual.max() - residual.min()),
-            None if analytic is None else float(analytic), ECCENTRICITY_FORMULA),
+            ecc_amp, float(np.max(np.abs(residual))), residual_p2p,
+            None if analytic is None else float(analytic),
+            ECCENTRICITY_FORMULA if offered else NOT_OFFERED_FORMULA, bool(offered), bool(applied)),
         position_term=None if frame.name != "BCRS" else PositionTerm(
-            0.0 if position is None else per.half_peak_to_peak(position.on_grid(q, fine)),
-            frame.position_base),
+            per.half_peak_to_peak(position), frame.position_base),
         integration=Integration(q.error_estimate_s, q.node_count, int(len(q.edges_s) - 1),
                                 q.nodes_s.shape[1], inputs.tol_fractional),
         model=model, omitted_terms=frame.omitted_terms(), series=series, warnings=tuple(warnings),

@@ -168,3 +168,19 @@ def fit_secular(q: PanelIntegral, term_names: Sequence[str], parts: Sequence[Bou
     description = f"{how} fitted to the offset" + (f" less the {removed}" if removed else "")
     term_rates = dict(zip(term_names, slope[1:1 + len(term_names)].tolist(), strict=True))
     return SecularFit(float(slope[0]), term_rates, harmonics, weight, raw, condition, description)
+
+
+def fit_line_and_harmonics(t_s: np.ndarray, offset_s: np.ndarray, period_s: float | None) -> float:
+    """Secular rate of one offset sampled on its own grid ``t_s`` (e.g. a reference's), with the
+    same harmonics and ramp as ``fit_secular``; per second."""
+    span_s = float(t_s[-1] - t_s[0])
+    weights = trapezoid_weights(t_s)
+    rows = np.asarray(offset_s, dtype=float)[None, :]
+    cycles = span_s / period_s if period_s else 0.0
+    weight = min(1.0, max(0.0, (cycles - HARMONIC_RAMP_START) / (1.0 - HARMONIC_RAMP_START)))
+    coef, _, _ = _solve(t_s, weights, rows, span_s, period_s, HARMONICS if weight else 0)
+    slope = float(coef[0, 1])
+    if 0.0 < weight < 1.0:
+        line_only, _, _ = _solve(t_s, weights, rows, span_s, period_s, 0)
+        slope = weight * slope + (1.0 - weight) * float(line_only[0, 1])
+    return slope

@@ -52,6 +52,8 @@ class BudgetInputs:
     nodes_scale: float = 1.0  # > 1 shrinks the initial panels (convergence checks)
     frame: str | None = None
     link_station: object = None
+    apply_eccentricity_correction: bool = True
+    """The user segment removes -(2/c^2) r.v around the clock's own centre (where one is offered)."""
 
 
 def initial_panel_s(source, nodes_scale: float = 1.0) -> float:

@@ -37,10 +37,15 @@ class PeriodicPart:
     """The offset left once the secular line is removed (mean zero over the span)."""
 
     amplitude_s: float
-    """Half the peak-to-peak."""
+    """Half the peak-to-peak, without the coordinate position term (BCRS); extremes refined."""
     peak_to_peak_s: float
     dominant_period_s: float | None
     components: tuple[PeriodicComponent, ...]
+    position_term_amplitude_s: float = 0.0
+    """Half the peak-to-peak of the coordinate position term, clock minus reference (0 in the GCRS)."""
+    amplitude_with_position_term_s: float | None = None
+    """Half the peak-to-peak of the offset less the secular line, position term included."""
+    peak_to_peak_with_position_term_s: float | None = None
 
 
 @dataclass(frozen=True)
@@ -54,6 +59,10 @@ class EccentricityCorrection:
     analytic_amplitude_s: float | None
     """2 sqrt(a GM) e / c^2, for Keplerian orbits; None otherwise."""
     formula: str
+    applicable: bool = True
+    """False for a clock with no orbit of its own around a centre (fixed on the Moon or Mars)."""
+    applied: bool = True
+    """Whether the residual figures include the correction (applicable and requested)."""
 
 
 @dataclass(frozen=True)
@@ -93,7 +102,8 @@ class Series:
     offset_s: np.ndarray
     periodic_s: np.ndarray
     eccentricity_term_s: np.ndarray
-    """-(2/c^2)(r.v(t) - r.v(0)): relative to the span start."""
+    """-(2/c^2) r.v(t): the absolute term, as IS-GPS-200's F e sqrt(A) sin E (zeros where no
+    correction is offered)."""
     signal_path: Mapping[str, object] | None = None
     """Barycentric budgets: light time and Shapiro delay to the Earth (and the link station)."""
 

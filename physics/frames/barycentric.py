@@ -12,25 +12,30 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..bounded_parts import (
+    BCRS_VALUE_ROWS,
+    CONVENTIONAL_RATE_VS_TT,
+    EARTH_MOON_CENTRES,
+    HOST_PRIMARY,
+    TCB_RATE_VS_TDB_MEAN,
+    eccentricity_part_s,
+    source_centre,
+)
 from ..constants import (
     C2_M2_PER_S2,
     GM_MOON_M3_PER_S2,
     GM_PLANET_SYSTEMS_M3_PER_S2,
+    L_G,
     MARS_J2,
     MARS_MEAN_RADIUS_M,
+    MOON_ANOMALISTIC_MONTH_S,
     MOON_J2,
     MOON_MEAN_RADIUS_M,
+    SECONDS_PER_DAY,
 )
 from ..errors import PhysicsInputError
 from ..orbits.barycentric import BarycentricSource, EarthSourceInBcrs
-from ..rate_bcrs import (
-    BCRS_REFERENCES,
-    BCRS_TERM_NAMES,
-    EARTH_ZONAL_RANGE_M,
-    POSITION_TERM_RANGE_M,
-    bcrs_integrand_terms,
-    position_term_base,
-)
+from ..rate_bcrs import BCRS_REFERENCES, BCRS_TERM_NAMES, bcrs_earth_field, bcrs_integrand_terms
 from ..solar_system import solar_system_for
 from .base import Frame
 
@@ -45,11 +50,18 @@ _SURFACE_J2_TERM = {  # (J2/2) GM/R at the surface, as a fractional rate: sizes 
 }
 
 
+POSITION_BASES = {"earth": "earth", "moon": "earth and moon", "mars": "mars"}
+"""Local frames whose coordinate position term is removed, by the clock's centre."""
+
+REFERENCE_FIT_POINTS_PER_DAY = 48
+"""Samples per day of the lunar reference's own fit (a grid of its own, not the clock's panels)."""
+
+
 class BarycentricFrame(Frame):
     name = "BCRS"
     coordinate_time = "TCB"
     term_names = BCRS_TERM_NAMES
-    extra_rows = ("r_dot_v", "ve_dot_r")
+    extra_rows = ("r_dot_v",) + BCRS_VALUE_ROWS
 
     def __init__(self, source, reference, gravity, span, env):
         if not isinstance(reference, str) or reference not in BCRS_REFERENCES:
@@ -62,36 +74,88 @@ class BarycentricFrame(Frame):
         super().__init__(bsrc, reference, gravity, span, env)
         self.ss = solar_system_for(span)
         self.primary_term = bsrc.primary_term
-        self.position_base = position_term_base(reference)
+        self.centre = source_centre(bsrc)
+        self.position_base = POSITION_BASES.get(self.centre, "none")
+        self.offers_eccentricity_correction = bool(getattr(bsrc, "offers_eccentricity_correction", True))
+        self._y_ref = CONVENTIONAL_RATE_VS_TT.get(reference)
 
     def evaluate(self, t_s):
         return bcrs_integrand_terms(self.source, self.reference, t_s, self.gravity, self.ss,
                                     self.env.orientation, self.span)
 
     def _extra(self, nr) -> list:
-        return [nr.r_dot_v_m2_per_s, nr.v_earth_dot_r_m2_per_s]
+        return [nr.r_dot_v_m2_per_s] + [nr.values[n] for n in BCRS_VALUE_ROWS]
 
     def mean_reference_rate(self, term_rates) -> float:
-        return -term_rates["reference"]
+        """The reference's mean rate against TT: defining for the conventional scales, fitted to its
+        own offset (known parts removed, on a grid of its own) for ``lunar_surface``."""
+        return float(self._y_ref)
 
-    def near_position_base(self) -> bool:
-        """Whether the clock stays within POSITION_TERM_RANGE_M of the position term's base body."""
-        t = np.linspace(0.0, self.span.duration_s, 33)
-        x = self.source.states_bcrs(self.span, t, self.ss, self.env.orientation).r_m
-        d = np.linalg.norm(x - self.ss.position_m(self.position_base, t), axis=1)
-        return bool(np.max(d) < POSITION_TERM_RANGE_M)
+    def _values(self, q, names, t_s):
+        idx = [self.row_names.index(n) for n in names]
+        v = q.values_at(np.atleast_1d(np.asarray(t_s, dtype=float)), rows=idx)
+        v0 = q.values_at(np.array([0.0]), rows=idx)[:, 0]
+        return {n: v[i] - v0[i] for i, n in enumerate(names)}
 
-    def position_part(self, q):
-        """-(v_B.(x - x_B) - its start value)/c^2, booked against the velocity term."""
-        return self._row_part(q, "ve_dot_r", -1.0 / C2_M2_PER_S2, "position_term", {"velocity": 1.0})
+    def _cumulative(self, q, name, t_s):
+        t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
+        return q.cumulative_at(t_s, rows=[self.row_names.index(name)])[0]
+
+    def position_term_s(self, q, t_s):
+        """The coordinate position term, clock minus reference, at ``t_s``: -(Delta v_B.(x - x_B))/c^2
+        over the clock's local frames, less the lunar reference's centre's own (TN36 eq. 10.4)."""
+        v = self._values(q, ("clock_position", "reference_position"), t_s)
+        return -(v["clock_position"] - v["reference_position"]) / C2_M2_PER_S2
+
+    def _reference_offset_s(self, q, t_s):
+        """The lunar reference's offset against TT less its known parts (the Moon's eccentricity
+        term around the Earth and its centre's position term), s."""
+        v = self._values(q, ("reference_r_dot_v", "reference_position"), t_s)
+        known = eccentricity_part_s(v["reference_r_dot_v"], 0.0) - v["reference_position"] / C2_M2_PER_S2
+        return -self._cumulative(q, "reference", t_s) - known
+
+    def _fit_lunar_reference_rate(self, q) -> float:
+        from ..budget.fit import fit_line_and_harmonics
+
+        n = max(64, int(np.ceil(self.span.duration_s / SECONDS_PER_DAY * REFERENCE_FIT_POINTS_PER_DAY)) + 1)
+        t = np.linspace(0.0, self.span.duration_s, n)
+        return fit_line_and_harmonics(t, self._reference_offset_s(q, t), MOON_ANOMALISTIC_MONTH_S)
 
     def bounded_parts(self, q) -> list:
-        """The eccentricity term, and near the Earth or the Moon the position term (TN36 eq. 10.4):
-        its ~130 us monthly swing for a lunar clock, modulated by the annual turn of v_E, would
-        otherwise leak ~0.1 us/day into a few months' rate."""
+        """Known bounded parts (physics.bounded_parts), each booked against the terms carrying it:
+        the eccentricity term around the clock's own centre; the host body's own term; the position
+        term of the clock's local frames; TDB - TT (in the time_scale term; for a clock riding with
+        the Earth also, with the opposite sign, in its own velocity and solar potential); and the
+        reference's own departure from its defining mean rate."""
+        from ..budget.fit import BoundedPart
+
+        if self._y_ref is None:
+            self._y_ref = self._fit_lunar_reference_rate(q)
         parts = [self.eccentricity_part(q)]
-        if self.near_position_base():
-            parts.append(self.position_part(q))
+        if self.centre in HOST_PRIMARY:
+            host_term = HOST_PRIMARY[self.centre][1]
+            parts.append(self._row_part(q, "host_r_dot_v", -2.0 / ((1.0 - L_G) * C2_M2_PER_S2),
+                                        "host_body_eccentricity_term", {"velocity": 0.5, host_term: 0.5}))
+        if self.centre != "sun":
+            parts.append(self._row_part(q, "clock_position", -1.0 / C2_M2_PER_S2, "position_term",
+                                        {"velocity": 1.0}))
+
+        def annual(t_s):
+            t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
+            return self._cumulative(q, "time_scale", t_s) - TCB_RATE_VS_TDB_MEAN * t_s
+
+        parts.append(BoundedPart("tdb_minus_tt_in_the_time_scale_term", annual, {"time_scale": 1.0}))
+        if self.centre in EARTH_MOON_CENTRES:
+            parts.append(BoundedPart("geocentre_annual_term_in_the_clock_rate", lambda t: -annual(t),
+                                     {"velocity": 0.5, "sun": 0.5}))
+        y_ref = self._y_ref
+
+        def reference_part(t_s):
+            t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
+            return self._cumulative(q, "reference", t_s) + y_ref * t_s
+
+        if self.reference not in ("TT", "TAI", "GPS"):
+            parts.append(BoundedPart("reference_periodic_part", reference_part, {"reference": 1.0}))
         return parts
 
     def omitted_terms(self) -> tuple:
@@ -137,8 +201,12 @@ class BarycentricFrame(Frame):
             "rate_equation": "dtau/dTCB = 1 - (v^2/2 + sum_b GM_b/|x - x_b|)/c^2 (first order, "
             "TN36 eq. 10.3); TDB = TCB - L_B (TCB - T0) + TDB0 (TN36 eq. 10.1)",
             "included_terms": list(included_terms),
-            "earth_field": self._earth_field(),
-            "tides": "full potentials of the Sun, Moon and planets (system barycentres), DE421",
+            "earth_field": bcrs_earth_field(self.source, self.gravity, self.span, self.ss,
+                                            self.env.orientation),
+            "body_fields": "Sun, Moon and planetary systems as point masses (DE421 GM, TN36 Table 3.1)",
+            "tides": "full potentials of the bodies acting on the clock: "
+            + ", ".join(["earth", "mars", "other planetary systems"] + list(self.gravity.bodies()))
+            + "; the reference scales always include every body (TN36 eqs. 10.1-10.4)",
             "ephemeris": "JPL DE421 (skyfield-data), coarse grid + cubic spline",
             "orbit": self.source.describe(),
             "tt_convention": TT_FAR_FROM_EARTH,
@@ -151,14 +219,6 @@ class BarycentricFrame(Frame):
             return {"central_body_field": f"point-mass {center.capitalize()} (its J2 is listed among "
                     "the omitted terms)"}
         return {}
-
-    def _earth_field(self) -> str:
-        if getattr(self.source, "is_surface", False):
-            return "GRS80 normal field + gamma*N (ground clock)"
-        if self.gravity.earth_zonal_degree == 0:
-            return "point mass"
-        return (f"EGM2008 zonal J2..J{self.gravity.earth_zonal_degree} within "
-                f"{EARTH_ZONAL_RANGE_M / 1e3:.0f} km of the geocentre, a point mass beyond")
 
     def signal_path(self, t_s, link_station) -> dict:
         from ..contacts.signal_path import light_time_to_earth

@@ -69,5 +69,11 @@ class Frame:
         return self._row_part(q, "r_dot_v", -2.0 / ((1.0 - L_G) * C2_M2_PER_S2), "eccentricity_term",
                               {"velocity": 0.5, self.primary_term: 0.5})
 
+    def eccentricity_start_s(self, q: PanelIntegral) -> float:
+        """The absolute eccentricity term -(2/c^2) r.v at the span start, s (IS-GPS-200's F e sqrt(A)
+        sin E is absolute; the bounded part counts from the start)."""
+        row = self.row_names.index("r_dot_v")
+        return float(-2.0 / ((1.0 - L_G) * C2_M2_PER_S2) * q.values_at(np.array([0.0]), rows=[row])[0][0])
+
     def bounded_parts(self, q: PanelIntegral) -> list:
         return [self.eccentricity_part(q)]

@@ -71,7 +71,8 @@ class GeocentricFrame(Frame):
                 "earth_tesseral_and_sectoral_harmonics",
                 EGM2008_C22_S22_NORMALIZED * np.sqrt(5.0) * (EARTH_EQUATORIAL_RADIUS_M / r) ** 2
                 * gm_over_rc2,
-                "degree-2 sectoral term, EGM2008 C22/S22 (from memory); mostly periodic"))
+                "degree-2 sectoral term, EGM2008 C22/S22 (Pavlis et al. 2012 coefficient file); "
+                "mostly periodic"))
             if src.kind == "keplerian":
                 out.extend(OmittedTerm(*term) for term in src.omitted_motion_terms(grav, r))
         else:

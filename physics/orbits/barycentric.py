@@ -10,9 +10,9 @@
   adding the geocentre's DE421 state (Galilean sum; the Lorentz terms of the
   GCRS -> BCRS transformation, ~1e-8 of the geocentric vectors, are omitted).
 
-Each gives, besides r and v, the r.v of the clock (or of its host body)
-relative to its *primary*, for the eccentricity term, and names that primary's
-rate term.
+Each gives, besides r and v, the r.v of the clock relative to its own centre
+(for the eccentricity term; none for a clock fixed on a body) and names that
+centre's rate term.
 """
 
 from __future__ import annotations
@@ -40,7 +40,7 @@ from .base import OrbitSource, States
 CENTRES = {
     "sun": (GM_SUN_M3_PER_S2, SUN_NOMINAL_RADIUS_M, "sun"),
     "moon": (GM_MOON_M3_PER_S2, MOON_MEAN_RADIUS_M, "moon"),
-    "mars": (GM_PLANET_SYSTEMS_M3_PER_S2["mars"], MARS_MEAN_RADIUS_M, "planets"),
+    "mars": (GM_PLANET_SYSTEMS_M3_PER_S2["mars"], MARS_MEAN_RADIUS_M, "mars"),
 }
 """centre: (GM m^3/s^2, radius m, name of its rate term)."""
 
@@ -65,6 +65,8 @@ def _d_tdb(span, t_s):
 class BarycentricSource(OrbitSource):
     frame = "BCRS"
     primary_term = "sun"
+    offers_eccentricity_correction = True
+    """Whether a user segment corrects -(2/c^2) r.v of this clock around its own centre."""
 
     def states_bcrs(self, span, t_s, solar_system, orientation) -> States:  # pragma: no cover
         raise NotImplementedError
@@ -139,9 +141,15 @@ class CentredKeplerianOrbit(BarycentricSource):
 
 
 class BodySurfaceClock(BarycentricSource):
-    """A clock fixed on the Moon or Mars (planetocentric coordinates on the mean sphere)."""
+    """A clock fixed on the Moon or Mars (planetocentric coordinates on the mean sphere).
+
+    It has no orbit of its own around a central body, so no user-segment eccentricity correction
+    is offered; the host body's orbital term (the Moon around the Earth, Mars around the Sun) is a
+    known bounded part removed before the secular fit (``physics.bounded_parts``).
+    """
 
     kind = "surface"
+    offers_eccentricity_correction = False
 
     def __init__(self, center, latitude_deg, longitude_deg, height_m=0.0):
         if center not in _ROTATION:
@@ -172,12 +180,7 @@ class BodySurfaceClock(BarycentricSource):
         v_rel = _ROTATION[self.center] * np.cross(pole, r_rel)
         xc = solar_system.position_m(self.center, t_s)
         vc = solar_system.velocity_m_per_s(self.center, t_s)
-        st = States(xc + r_rel, vc + v_rel, np.zeros(len(t_s), dtype=np.int8), frame="BCRS")
-        primary = "earth" if self.center == "moon" else "sun"
-        dx = xc - solar_system.position_m(primary, t_s)
-        dv = vc - solar_system.velocity_m_per_s(primary, t_s)
-        st.r_dot_v_m2_per_s = np.einsum("ni,ni->n", dx, dv)
-        return st
+        return States(xc + r_rel, vc + v_rel, np.zeros(len(t_s), dtype=np.int8), frame="BCRS")
 
     def describe(self) -> dict:
         return {"type": self.kind, "center": self.center, "latitude_deg": self.latitude_deg,

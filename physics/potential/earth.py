@@ -72,6 +72,7 @@ def omitted_zonal_size(r_m: float, degree: int, gm_m3_per_s2: float = GM_EARTH_T
     nxt = 2 if degree < 2 else degree + 1
     jn = EGM2008_J.get(nxt)
     if jn is None:
-        # EGM2008 J7 ~ 3.5e-7 (normalised C70 = 9.05e-8, from memory).
+        # EGM2008 J7 ~ 3.5e-7 (normalised C70 = 0.905120844521618e-7: the EGM2008 file's value as
+        # carried by the IERS Conventions 2010 software).
         jn = 3.5e-7
     return abs(jn) * (EGM2008_REFERENCE_RADIUS_M / r_m) ** nxt * gm_m3_per_s2 / r_m

@@ -55,6 +55,8 @@ def test_summary_csv_round_trips_the_json(client):
             assert float(text) == expected, name  # repr keeps every bit of the double
         elif expected is None:
             assert text == ""
+        elif isinstance(expected, bool):
+            assert text == ("true" if expected else "false"), name
         else:
             assert text == str(expected), name
 
