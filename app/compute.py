@@ -21,16 +21,109 @@ from __future__ import annotations
 
 import asyncio
 import contextlib
+import math
+from dataclasses import dataclass
 from typing import Annotated, Any
 
 from fastapi import Depends, Request
 from fastapi.concurrency import run_in_threadpool
+from taubudget.physics.budget import initial_panel_s, series_point_count
 from taubudget.physics.cancel import DEADLINE_REASON, CancelToken, ComputationCancelled, cancellation
+from taubudget.physics.constants import SECONDS_PER_DAY
+from taubudget.physics.errors import PhysicsInputError
+from taubudget.physics.frames.choose import choose_frame
+from taubudget.physics.orbits.numerical import NumericalOrbit
+from taubudget.physics.quadrature import NODES_PER_PANEL
 
 from .problems import TYPE_BUSY, TYPE_CANCELLED, TYPE_DEADLINE, ProblemError
 
 DISCONNECT_POLL_S = 0.25
 """How often a running computation looks whether its client is still connected, s."""
+
+
+# --- 1. and 2.: estimate and check ----------------------------------------------------------
+
+# Upper bounds of the JSON text of one series row (Starlette's compact separators): a float's
+# repr is at most 24 characters ("-1.2345678901234567e-308") plus a comma, a UTC time string
+# 27 characters plus quotes and a comma.
+FLOAT_BYTES = 25
+TIME_BYTES = 30
+BASE_ROW_BYTES = TIME_BYTES + 4 * FLOAT_BYTES  # time_utc, elapsed_s, offset, periodic, eccentricity
+BCRS_ROW_BYTES = 2 * FLOAT_BYTES  # light time and Shapiro delay to the Earth
+STATION_ROW_BYTES = 2 * FLOAT_BYTES  # the same to a link station
+CLOCK_ROW_BYTES = TIME_BYTES + 4 * FLOAT_BYTES  # time_utc, elapsed_s, deterministic, sigma, bound
+FIXED_RESPONSE_BYTES = 64_000
+"""Everything but the series: figures, model block, omitted terms, clock model (~10 KB measured)."""
+
+
+@dataclass(frozen=True)
+class Cost:
+    """What one budget will cost, estimated from the request alone, before any work."""
+
+    nodes: int  # quadrature nodes of the first pass (initial panels x NODES_PER_PANEL)
+    series_points: int  # exact number of output times (0 without a series)
+    response_bytes: int  # upper bound of the JSON response
+    numerical_revolutions: float | None = None  # orbits integrated (state vectors), epoch included
+
+
+def estimate_cost(source, reference, span, series_step_s: float | None = None, frame: str | None = None,
+                  clock: bool = False, link_station: bool = False) -> Cost:
+    """The cost of a budget of ``source`` against ``reference`` (string or physics source) over
+    ``span``: cheap (no propagation), exact for the series, an upper bound for the response."""
+    nodes = NODES_PER_PANEL * max(1, math.ceil(span.duration_s / initial_panel_s(source)))
+    points = series_point_count(span.duration_s, series_step_s) if series_step_s else 0
+    row = BASE_ROW_BYTES + (CLOCK_ROW_BYTES if clock else 0)
+    if (frame or choose_frame(source, reference)) == "BCRS":
+        row += BCRS_ROW_BYTES + (STATION_ROW_BYTES if link_station else 0)
+    revolutions = source.propagation_revolutions(span) if isinstance(source, NumericalOrbit) else None
+    return Cost(nodes, points, FIXED_RESPONSE_BYTES + points * row, revolutions)
+
+
+def check_cost(cost: Cost, settings, source=None, span=None, span_field: str = "end") -> None:
+    """Refuse, before any work, a cost over the settings: ``PhysicsInputError`` (a 422 naming the
+    field) whose reason names the estimate and the limit. ``span_field``: the request field that
+    sets the span length ("end" or "duration_days")."""
+    revolutions = cost.numerical_revolutions
+    if revolutions is not None and revolutions > settings.MAX_NUMERICAL_REVOLUTIONS:
+        _refuse_numerical(revolutions, source, span, settings)
+    if cost.nodes > settings.MAX_NODES:
+        days = span.duration_s / SECONDS_PER_DAY if span is not None else None
+        raise PhysicsInputError(
+            span_field, None if days is None else round(days, 6),
+            f"the span needs an estimated {cost.nodes} quadrature nodes, above this service's limit of "
+            f"{settings.MAX_NODES} (TAUBUDGET_MAX_NODES); shorten the span or split it",
+        )
+    if cost.series_points > settings.MAX_SERIES_POINTS:
+        raise PhysicsInputError(
+            "series_step_s", None,
+            f"the series has {cost.series_points} points (the span end included), above this service's "
+            f"limit of {settings.MAX_SERIES_POINTS} (TAUBUDGET_MAX_SERIES_POINTS); use a longer step",
+        )
+    if cost.response_bytes > settings.MAX_RESPONSE_BYTES:
+        raise PhysicsInputError(
+            "series_step_s", None,
+            f"the response would be up to {cost.response_bytes / 1e6:.1f} MB ({cost.series_points} series "
+            f"points), above this service's limit of {settings.MAX_RESPONSE_BYTES / 1e6:g} MB "
+            "(TAUBUDGET_MAX_RESPONSE_BYTES); use a longer step",
+        )
+
+
+def _refuse_numerical(revolutions: float, source, span, settings):
+    in_span = span.duration_s / source.period_s()
+    to_span = revolutions - in_span
+    field, value = ((f"{source.field_prefix}.epoch", source.describe()["epoch_utc"]) if to_span > in_span
+                    else ("end", round(span.duration_s / SECONDS_PER_DAY, 6)))
+    raise PhysicsInputError(
+        field, value,
+        f"a state-vector orbit is integrated numerically from its epoch: an estimated "
+        f"{revolutions:.0f} revolutions ({to_span:.0f} from the epoch to the span, {in_span:.0f} "
+        f"over it), above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
+        "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); give a state nearer the span, shorten the span, "
+        "or give mean elements (TLE/OMM)",
+    )
+
+
+# --- 3.: run -----------------------------------------------------------------------------------
 
 
 def run_bounded(fn, *args: Any, token: CancelToken | None = None, **kwargs: Any) -> Any:

@@ -1,6 +1,6 @@
 """Service limits and options, from environment variables (prefix TAUBUDGET_).
 
-Units are in the names: TAUBUDGET_MAX_SPAN_DAYS=400 and so on.
+Units are in the names: TAUBUDGET_MAX_NODES=3000000, TAUBUDGET_COMPUTE_DEADLINE_SECONDS=120 and so on.
 """
 
 from __future__ import annotations
@@ -13,9 +13,12 @@ from pydantic_settings import BaseSettings, SettingsConfigDict
 class Settings(BaseSettings):
     model_config = SettingsConfigDict(env_prefix="TAUBUDGET_", extra="ignore")
 
-    MAX_SPAN_DAYS: float = 400.0
+    # Work is bounded by its estimated cost (nodes, series points, response bytes; app/compute.py),
+    # not by days: a 2-year surface clock is ~30,000 nodes. The span cap is an outer bound only.
+    MAX_SPAN_DAYS: float = 36_525.0
     MAX_NODES: int = 3_000_000
     MAX_SERIES_POINTS: int = 200_000
+    MAX_RESPONSE_BYTES: int = 20_000_000  # upper bound of a budget's JSON, checked before work
     MAX_BATCH_ITEMS: int = 500
     MAX_BATCH_NODES: int = 20_000_000
     MAX_BODY_BYTES: int = 5_000_000

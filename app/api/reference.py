@@ -112,7 +112,7 @@ def _versions() -> dict[str, str]:
         "sources": {"TN36": "IERS Conventions (2010), IERS Technical Note No. 36, ..."},
         "models": {"tides": "Sun and Moon tidal potential from JPL DE421"},
         "versions": {"skyfield": "1.49", "ephemeris": "JPL DE421 (skyfield-data)"},
-        "limits": {"MAX_SPAN_DAYS": 400.0}, "caution": "Planning estimate only. ...",
+        "limits": {"MAX_NODES": 3000000}, "caution": "Planning estimate only. ...",
     }),
 )
 async def reference(settings: SettingsDep):

@@ -6,8 +6,6 @@ Physics input errors (``PhysicsInputError``) pass through; callers map them.
 
 from __future__ import annotations
 
-import math
-
 from taubudget.physics import budget as budget_mod
 from taubudget.physics.constants import SECONDS_PER_DAY
 from taubudget.physics.errors import PhysicsInputError
@@ -15,6 +13,7 @@ from taubudget.physics.orbits import SurfaceClock
 from taubudget.physics.rate import GravityModel
 from taubudget.physics.span import Span
 
+from ..compute import Cost, check_cost, estimate_cost
 from ..present.budget import budget as present_budget
 from ..schemas import BudgetRequest, SurfaceClockIn
 from ..settings import Settings, get_settings
@@ -46,26 +45,34 @@ def build_span(req: BudgetRequest, settings: Settings) -> Span:
     return Span(start, duration_s)
 
 
+def orbit_source(req: BudgetRequest):
+    """The physics source of the request's orbit (Keplerian elements follow its zonal field)."""
+    return build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
+
+
+def _reference_source(req: BudgetRequest):
+    reference = req.reference
+    return build_source(reference, prefix="reference") if isinstance(reference, SurfaceClockIn) else reference
+
+
+def planned_cost(req: BudgetRequest, settings: Settings, source, reference, span: Span) -> Cost:
+    """The request's estimated cost (app/compute.py), checked against the settings before any work."""
+    cost = estimate_cost(source, reference, span, req.series_step_s,
+                         None if req.frame == "auto" else req.frame, clock=req.clock is not None,
+                         link_station=req.link_station is not None)
+    check_cost(cost, settings, source, span, "end" if req.end is not None else "duration_days")
+    return cost
+
+
 def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
                   source=None) -> budget_mod.BudgetInputs:
     """Physics inputs of a request; ``source``: the orbit source when the caller already built it
     (one object of an uploaded multi-object file), else built from ``req.orbit``."""
     settings = settings or get_settings()
-    if source is None:
-        source = build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
-    reference = req.reference
-    if isinstance(reference, SurfaceClockIn):
-        reference = build_source(reference, prefix="reference")
+    source = orbit_source(req) if source is None else source
+    reference = _reference_source(req)
     span = build_span(req, settings)
-    _check_numerical_cost(source, span, settings)
-    if req.series_step_s is not None:
-        points = span.duration_s / req.series_step_s
-        if points > settings.MAX_SERIES_POINTS:
-            raise PhysicsInputError(
-                "series_step_s", req.series_step_s,
-                f"a step of {req.series_step_s:g} s over the span gives {points:.0f} series points, "
-                f"above this service's limit of {settings.MAX_SERIES_POINTS}",
-            )
+    planned_cost(req, settings, source, reference, span)
     g = req.gravity
     return budget_mod.BudgetInputs(
         source=source, reference=reference, span=span,
@@ -76,30 +83,6 @@ def budget_inputs(req: BudgetRequest, settings: Settings | None = None,
         link_station=_link_station(req),
         apply_eccentricity_correction=req.apply_eccentricity_correction,
     )
-
-
-def _check_numerical_cost(source, span: Span, settings: Settings):
-    """Refuse up front a numerical propagation longer than MAX_NUMERICAL_REVOLUTIONS orbits,
-    counted from the state's epoch to the far end of the span (the integrator covers both)."""
-    from taubudget.physics.orbits import NumericalOrbit
-
-    if not isinstance(source, NumericalOrbit):
-        return
-    revolutions = source.propagation_revolutions(span)
-    if revolutions > settings.MAX_NUMERICAL_REVOLUTIONS:
-        in_span = span.duration_s / source.period_s()
-        to_span = revolutions - in_span
-        prefix = source.field_prefix
-        field, value = ((f"{prefix}.epoch", source.describe()["epoch_utc"]) if to_span > in_span
-                        else ("end", round(span.duration_s / SECONDS_PER_DAY, 6)))
-        raise PhysicsInputError(
-            field, value,
-            f"a state-vector orbit is integrated numerically from its epoch: an estimated "
-            f"{revolutions:.0f} revolutions ({to_span:.0f} from the epoch to the span, {in_span:.0f} "
-            f"over it), above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
-            "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); give a state nearer the span, shorten the span, "
-            "or give mean elements (TLE/OMM)",
-        )
 
 
 def _link_station(req: BudgetRequest):
@@ -157,22 +140,15 @@ def merge_item(defaults: dict, item: dict) -> dict:
 
 
 def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=None) -> int:
-    """Cheap up-front estimate of the quadrature nodes one request needs.
-
-    The integrator starts with panels of ``physics.budget.initial_panel_s`` (a fraction
-    of the orbital period within the panel limits) and
-    ``physics.quadrature.NODES_PER_PANEL`` nodes each; adaptive splitting near a
-    high-eccentricity perigee adds more, which the per-request ``MAX_NODES`` still
-    bounds. Raises ``PhysicsInputError`` for an unusable orbit or span.
+    """Cheap up-front estimate of the quadrature nodes one request needs, after checking the
+    request's whole estimated cost (``planned_cost``): initial panels of
+    ``physics.budget.initial_panel_s`` times ``physics.quadrature.NODES_PER_PANEL``; adaptive
+    splitting adds more, which the per-request ``MAX_NODES`` still bounds. Raises
+    ``PhysicsInputError`` for an unusable orbit or span, or a cost over a limit.
     """
-    from taubudget.physics.budget import initial_panel_s
-    from taubudget.physics.quadrature import NODES_PER_PANEL
-
     settings = settings or get_settings()
-    if source is None:
-        source = build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
-    span = build_span(req, settings)
-    return NODES_PER_PANEL * max(1, math.ceil(span.duration_s / initial_panel_s(source)))
+    source = orbit_source(req) if source is None else source
+    return planned_cost(req, settings, source, _reference_source(req), build_span(req, settings)).nodes
 
 
 def budget_result(request, settings: Settings | None = None):

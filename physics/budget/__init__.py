@@ -11,6 +11,8 @@ from .inputs import (
     PANELS_PER_PERIOD,
     BudgetInputs,
     initial_panel_s,
+    series_point_count,
+    series_times_s,
 )
 from .result import (
     BudgetResult,
@@ -33,6 +35,7 @@ CAUTION = (
 __all__ = [
     "CAUTION", "compute_budget", "preset_fractional", "HARMONICS", "BoundedPart", "SecularFit", "fit_secular",
     "MAX_PANEL_S", "MIN_PANEL_S", "MIN_SPAN_S", "PANELS_PER_PERIOD", "BudgetInputs", "initial_panel_s",
+    "series_point_count", "series_times_s",
     "BudgetResult", "EccentricityCorrection", "Integration", "OmittedTerm", "PeriodicComponent",
     "PeriodicPart", "PositionTerm", "Preset", "Series",
 ]

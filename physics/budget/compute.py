@@ -24,7 +24,14 @@ from ..quadrature import NodeBudgetExceeded, integrate
 from ..threads import single_threaded_blas
 from . import periodic as per
 from .fit import fit_secular, trapezoid_weights
-from .inputs import BudgetInputs, check_series, check_span, check_tle_epoch, initial_panel_s
+from .inputs import (
+    BudgetInputs,
+    check_series,
+    check_span,
+    check_tle_epoch,
+    initial_panel_s,
+    series_times_s,
+)
 from .result import (
     BudgetResult,
     EccentricityCorrection,
@@ -129,9 +136,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     checkpoint()
     series = None
     if n_series is not None:
-        ts = np.arange(n_series) * float(inputs.series_step_s)
-        if ts[-1] < span.duration_s - 1e-6:
-            ts = np.append(ts, span.duration_s)
+        ts = series_times_s(span.duration_s, inputs.series_step_s)
         offset = q.cumulative_at(ts, rows=[0])[0]
         series = Series(ts, offset, offset - fit.rate * (ts - 0.5 * span.duration_s) - shift,
                         ecc_part.offset_s(ts) + ecc_start_s,

@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
+
+import numpy as np
 
 from ..constants import SECONDS_PER_DAY
 from ..ephemeris import DE421_FIRST_JD_TDB, DE421_LAST_JD_TDB
@@ -100,14 +103,32 @@ def check_span(span: Span):
         )
 
 
+SERIES_END_TOLERANCE_S = 1e-6
+"""A series whose last step lands this close to the span end does not repeat the end time."""
+
+
+def series_point_count(duration_s: float, step_s: float) -> int:
+    """Exact number of output times of a series: 0, step, 2 step, ... and the span end."""
+    steps = math.floor(duration_s / step_s)
+    return steps + 1 + (1 if steps * step_s < duration_s - SERIES_END_TOLERANCE_S else 0)
+
+
+def series_times_s(duration_s: float, step_s: float) -> np.ndarray:
+    """The output times of a series, s after the span start (``series_point_count`` of them)."""
+    n = math.floor(duration_s / step_s) + 1
+    ts = np.arange(n) * float(step_s)
+    if ts[-1] < duration_s - SERIES_END_TOLERANCE_S:
+        ts = np.append(ts, duration_s)
+    return ts
+
+
 def check_series(inputs: BudgetInputs) -> int | None:
-    """Points of the requested series (None: no series); refused above ``max_series_points``."""
+    """Points of the requested series (None: no series); refused above ``max_series_points``
+    (callers estimate with ``series_point_count`` before any work: the same count)."""
     if not inputs.series_step_s:
         return None
-    import math
-
-    n_pts = math.floor(inputs.span.duration_s / inputs.series_step_s) + 1
-    if n_pts + 1 > inputs.max_series_points:
+    n_pts = series_point_count(inputs.span.duration_s, inputs.series_step_s)
+    if n_pts > inputs.max_series_points:
         raise PhysicsInputError(
             "series_step_s", inputs.series_step_s,
             f"a step of {inputs.series_step_s} s gives {n_pts} series points, above the limit "
