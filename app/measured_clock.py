@@ -94,7 +94,7 @@ def _orbit_source(orbit_text: str, object_id: str, orbit_type: str | None):
     if model is None:
         raise PhysicsInputError("orbit_file", orbit["type"], "not an orbit file type")
     try:
-        orbit_in = model.model_validate(orbit)
+        orbit_in = model.model_validate(orbit, strict=False)  # options given as text
     except ValidationError as exc:
         raise PhysicsInputError("orbit_file", None, exc.errors()[0]["msg"]) from exc
     return build_format_source(orbit_in, "orbit_file")

@@ -2,13 +2,23 @@
 
 from __future__ import annotations
 
-from pydantic import BaseModel, ConfigDict, Field, model_validator
+from typing import Annotated
+
+from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
 
 
 class StrictModel(BaseModel):
-    """Unknown fields are refused by name; NaN and infinities are not numbers here."""
+    """Unknown fields are refused by name; NaN and infinities are not numbers here; types are
+    strict: a number must be a JSON number (not "26561.4"), a boolean true or false (not 0 or
+    "yes"). Routes whose values arrive as text (query strings, multipart form fields, metadata
+    of uploaded files) validate with ``model_validate(..., strict=False)`` and so still convert
+    "1.5" and "true", with a 422 naming the field for text that is not a number."""
 
-    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False, strict=True)
+
+
+UtcDateTime = Annotated[AwareDatetime, Field(strict=False)]
+"""A time with its offset: JSON has no time type, so ISO 8601 text is the strict form here."""
 
 
 class OpenModel(BaseModel):

@@ -3,18 +3,22 @@
 from __future__ import annotations
 
 import logging
+from dataclasses import dataclass
 from typing import Annotated, Any
 
 from fastapi import APIRouter, Query, Request
+from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse, PlainTextResponse, Response
-from pydantic import ValidationError
+from pydantic import TypeAdapter, ValidationError
 from taubudget.physics.budget import CAUTION
+from taubudget.physics.cancel import checkpoint
 from taubudget.physics.errors import PhysicsInputError
 
 from .. import csv_format
 from ..compute import ComputeDep
 from ..deps import SettingsDep, parse_json
 from ..problems import (
+    TYPE_CANCELLED,
     TYPE_INTERNAL,
     TYPE_TOO_LARGE,
     ProblemError,
@@ -33,12 +37,14 @@ from ..schemas import (
     BatchRequest,
     BudgetRequest,
 )
-from ..services.budget import budget_from_request, estimate_nodes, merge_item
+from ..schemas.orbits import Orbit
+from ..services.budget import budget_from_request, merge_item, orbit_source, planned_cost_of
 from . import openapi_doc as doc
 from . import uploads
 from .query import BudgetQuery, QueryConflict, to_request, with_parameters
 
 router = APIRouter(prefix="/v1", tags=["budgets"])
+ORBIT_ADAPTER = TypeAdapter(Orbit)
 log = logging.getLogger("taubudget.batch")
 
 
@@ -47,6 +53,23 @@ def _validate(body: Any) -> BudgetRequest:
         return BudgetRequest.model_validate(body)
     except ValidationError as exc:
         raise ProblemError.from_problem(validation_problem(validation_errors(exc, body))) from exc
+
+
+def _parse_budget(raw: bytes) -> BudgetRequest:
+    """JSON body -> BudgetRequest (in a worker thread: a body may be megabytes of orbit text)."""
+    return _validate(parse_json(raw))
+
+
+def _validate_batch(payload: Any) -> BatchRequest:
+    try:
+        return BatchRequest.model_validate(payload)
+    except ValidationError as exc:
+        raise ProblemError.from_problem(validation_problem(validation_errors(exc, payload),
+                                                           "The batch")) from exc
+
+
+def _parse_batch(raw: bytes) -> BatchRequest:
+    return _validate_batch(parse_json(raw))
 
 
 @router.post(
@@ -69,7 +92,7 @@ def _validate(body: Any) -> BudgetRequest:
 async def create_budget(request: Request, settings: SettingsDep, compute: ComputeDep):
     """Compute the drift budget of one clock against one reference over one span."""
     if not uploads.is_multipart(request):
-        req = _validate(parse_json(await request.body()))
+        req = await run_in_threadpool(_parse_budget, await request.body())
         return JSONResponse(await compute(budget_from_request, req, settings))
     up = await uploads.read_upload(request, ("request",))
     document = uploads.json_document(up, "orbit")
@@ -78,7 +101,7 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
         return JSONResponse(await compute(budget_from_request, req, settings))
     body, parts = uploads.budget_body(up)
     try:
-        req = BudgetRequest.model_validate(body)
+        req = BudgetRequest.model_validate(body, strict=False)  # form fields are text
     except ValidationError as exc:
         raise uploads.upload_validation_problem(exc, body, parts) from exc
     try:
@@ -152,14 +175,10 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
         payload = uploads.json_document(up, "items")
         if payload is None:  # an orbit file: one item per object in it
             plan = await uploads.file_batch(up, settings)
-            return await _run_batch(plan.entries, plan.defaults, settings, compute)
+            return await _run_batch(plan.entries, plan.defaults, settings, compute, strict=False)
+        batch = _validate_batch(payload)
     else:
-        payload = parse_json(await request.body())
-    try:
-        batch = BatchRequest.model_validate(payload)
-    except ValidationError as exc:
-        raise ProblemError.from_problem(validation_problem(validation_errors(exc, payload),
-                                                           "The batch")) from exc
+        batch = await run_in_threadpool(_parse_batch, await request.body())
     if len(batch.items) > settings.MAX_BATCH_ITEMS:
         raise ProblemError(
             413, "Batch too large",
@@ -171,23 +190,61 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
     return await _run_batch([(item, None, None) for item in batch.items], batch.defaults, settings, compute)
 
 
-async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings,
-                     compute) -> JSONResponse:
-    """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
-    where orbit and source are given for the objects of an uploaded file (parsed once)."""
+@dataclass
+class _BatchPlan:
+    results: list[dict]
+    planned: list[tuple[int, BudgetRequest, dict, Any]]
+    total_nodes: int
+    total_bytes: int
+
+
+def _shared_orbit(defaults: dict, strict: bool):
+    """The defaults' orbit validated once for every item that does not give its own (a
+    40,000-line OEM in ``defaults`` is validated and parsed once, not once per item), or None when
+    the defaults have no valid orbit (each item then reports its own errors)."""
+    orbit = defaults.get("orbit")
+    if not isinstance(orbit, dict):
+        return None
+    try:
+        return ORBIT_ADAPTER.validate_python(orbit, strict=None if strict else False)
+    except ValidationError:
+        return None
+
+
+def _plan_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings, strict: bool) -> _BatchPlan:
+    """Validate every item, build its orbit source and estimate its cost: runs in the bounded
+    compute path (a worker thread, under the deadline), never on the event loop."""
     results: list[dict] = []
     planned: list[tuple[int, BudgetRequest, dict, Any]] = []
     seen: set = set()
-    total_nodes = 0
+    total_nodes = total_bytes = 0
+    shared = _shared_orbit(defaults, strict) if any(o is None for _, o, _ in entries) else None
+    shared_sources: dict[int, Any] = {}  # by zonal degree (Keplerian elements follow the field)
     for i, (item, orbit, source) in enumerate(entries):
+        checkpoint()
         ident, bad = _item_id(i, item, seen)
         if bad is None:
             merged = merge_item(defaults, item)
+            uses_shared = orbit is None and shared is not None and "orbit" not in item
             if orbit is not None:
                 merged["orbit"] = orbit
+            elif uses_shared:
+                merged["orbit"] = shared
             try:
-                req = BudgetRequest.model_validate(merged)
-                total_nodes += estimate_nodes(req, settings, source)
+                req = BudgetRequest.model_validate(merged, strict=None if strict else False)
+                if uses_shared:
+                    degree = req.gravity.earth_zonal_degree
+                    if degree not in shared_sources:
+                        try:
+                            shared_sources[degree] = orbit_source(req)
+                        except PhysicsInputError as exc:
+                            shared_sources[degree] = exc
+                    source = shared_sources[degree]
+                    if isinstance(source, PhysicsInputError):
+                        raise source
+                cost = planned_cost_of(req, settings, source)
+                total_nodes += cost.nodes
+                total_bytes += cost.response_bytes
                 planned.append((i, req, item, source))
             except ValidationError as exc:
                 bad = _item_validation_problem(i, exc, merged, item, defaults)
@@ -195,21 +252,46 @@ async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settin
                 bad = _item_physics_problem(i, exc, item, defaults)
         results.append({"id": ident, "status": 200 if bad is None else bad["status"],
                         "budget": None, "problem": bad})
+    return _BatchPlan(results, planned, total_nodes, total_bytes)
+
+
+async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings,
+                     compute, strict: bool = True) -> JSONResponse:
+    """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
+    where orbit and source are given for the objects of an uploaded file (parsed once).
+    ``strict``: JSON types (a JSON batch) or text converted (form fields of an upload)."""
+    plan = await compute(_plan_batch, entries, defaults, settings, strict)
+    results, total_nodes = plan.results, plan.total_nodes
     if total_nodes > settings.MAX_BATCH_NODES:
         raise ProblemError(
             413, "Batch too large",
             f"The batch needs an estimated {total_nodes} quadrature nodes (items x nodes per item, "
-            f"16 per half orbit), above this service's limit of {settings.MAX_BATCH_NODES} "
+            f"20 per initial panel), above this service's limit of {settings.MAX_BATCH_NODES} "
             "(setting TAUBUDGET_MAX_BATCH_NODES); shorten the spans or split the batch.",
             TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {total_nodes} nodes"}],
             limit_name="MAX_BATCH_NODES", limit=settings.MAX_BATCH_NODES, estimated_nodes=total_nodes,
         )
-    for i, req, item, source in planned:
+    if plan.total_bytes > settings.MAX_RESPONSE_BYTES:
+        raise ProblemError(
+            413, "Batch too large",
+            f"The batch's response would be up to {plan.total_bytes / 1e6:.1f} MB, above this service's "
+            f"limit of {settings.MAX_RESPONSE_BYTES / 1e6:g} MB (setting TAUBUDGET_MAX_RESPONSE_BYTES); "
+            "use longer series steps or split the batch.",
+            TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {plan.total_bytes} bytes"}],
+            limit_name="MAX_RESPONSE_BYTES", limit=settings.MAX_RESPONSE_BYTES,
+            estimated_bytes=plan.total_bytes,
+        )
+    for i, req, item, source in plan.planned:
         try:
             results[i]["budget"] = await compute(budget_from_request, req, settings, source)
         except PhysicsInputError as exc:
             results[i]["problem"] = _item_physics_problem(i, exc, item, defaults)
             results[i]["status"] = 422
+        except ProblemError as exc:  # this item's deadline, or no slot: its own problem
+            if exc.type == TYPE_CANCELLED:
+                raise  # the client went away: stop the batch
+            results[i]["problem"] = exc.to_dict()
+            results[i]["status"] = exc.status
         except Exception:  # a bug in one item must not hide the others' results
             log.exception("batch item %d failed", i)
             results[i]["problem"] = problem(500, "Internal error",
@@ -260,7 +342,7 @@ async def budget_from_query(request: Request, q: BudgetQuery, settings,
         raise ProblemError(422, "Invalid request", f"The query is invalid: {exc.detail}.",
                            errors=errors) from exc
     try:
-        req = BudgetRequest.model_validate(body)
+        req = BudgetRequest.model_validate(body, strict=False)  # typed by BudgetQuery from text
     except ValidationError as exc:
         raise _query_problem(validation_errors(exc, body)) from exc
     try:

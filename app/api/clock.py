@@ -70,7 +70,7 @@ def _from_text(text: str, query: dict, max_values: int) -> StabilityRequest:
     body.update({k: v for k, v in query.items() if v is not None})
     body["data"] = column.values
     try:
-        return StabilityRequest.model_validate(body)
+        return StabilityRequest.model_validate(body, strict=False)  # file header and query text
     except ValidationError as exc:
         errors = validation_errors(exc, body)
         for e in errors:

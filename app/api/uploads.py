@@ -313,7 +313,7 @@ async def file_batch(up: Upload, settings: Settings) -> FileBatch:
                          "detail": f"type {orbit['type']!r} is not an orbit file type; use one of "
                                    f"{', '.join(_MODEL_OF_TYPE)}"}], "The batch")
     try:
-        orbit_in = model.model_validate(orbit)
+        orbit_in = model.model_validate(orbit, strict=False)  # options from form fields are text
     except ValidationError as exc:
         errors = validation_errors(exc, orbit, prefix="/defaults/orbit")
         raise _invalid(parts.annotate(errors), "The batch") from exc

@@ -20,9 +20,9 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import AwareDatetime, Field
+from pydantic import Field
 
-from ..model_base import StrictModel, ZonalGravityModel
+from ..model_base import StrictModel, UtcDateTime, ZonalGravityModel
 from .common import MAX_TEXT_CHARS
 
 _Strict = StrictModel
@@ -86,7 +86,7 @@ class StateVectorOrbitIn(_Strict):
     """A GCRS state vector at an epoch, propagated numerically."""
 
     type: Literal["state_vector"]
-    epoch: AwareDatetime = Field(description="Epoch of the state, ISO 8601 UTC")
+    epoch: UtcDateTime = Field(description="Epoch of the state, ISO 8601 UTC")
     position_gcrs_km: list[float] = Field(min_length=3, max_length=3, description="GCRS position, km")
     velocity_gcrs_km_per_s: list[float] = Field(min_length=3, max_length=3,
                                                 description="GCRS velocity (dx/dTCG), km/s")

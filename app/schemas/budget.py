@@ -8,10 +8,11 @@ from __future__ import annotations
 
 from typing import Any, Literal
 
-from pydantic import AwareDatetime, Field, model_validator
+from pydantic import Field, model_validator
 
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
+from ..model_base import UtcDateTime
 from .clock import ClockErrorOut, ClockIn
 from .orbits import GravityIn, Orbit, SurfaceClockIn
 from .problems import Problem
@@ -29,8 +30,8 @@ class BudgetRequest(_Strict):
     link_station: SurfaceClockIn | None = Field(
         None, description="A ground station on the Earth: BCRS series gain the light time and Shapiro "
         "delay from the clock to it")
-    start: AwareDatetime
-    end: AwareDatetime | None = None
+    start: UtcDateTime
+    end: UtcDateTime | None = None
     duration_days: float | None = Field(None, gt=0)
     gravity: GravityIn = Field(default_factory=GravityIn)
     series_step_s: float | None = Field(None, gt=0)

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import AwareDatetime, Field
+from pydantic import Field
 
 from ..formats.models import (
     OemOrbitIn,
@@ -16,7 +16,7 @@ from ..formats.models import (
     TleFileOrbitIn,
 )
 from ..model_base import StrictModel as _Strict
-from ..model_base import ZonalGravityModel
+from ..model_base import UtcDateTime, ZonalGravityModel
 
 
 class KeplerianOrbitIn(_Strict):
@@ -29,7 +29,7 @@ class KeplerianOrbitIn(_Strict):
     reference_plane: Literal["icrf_equator", "ecliptic_j2000"] = Field(
         "icrf_equator", description="Axes of the elements: ICRF/GCRS equator, or the J2000 ecliptic "
         "(centres other than the Earth)")
-    epoch: AwareDatetime = Field(description="Epoch of the elements, ISO 8601 UTC")
+    epoch: UtcDateTime = Field(description="Epoch of the elements, ISO 8601 UTC")
     semi_major_axis_km: float = Field(gt=0, description="Semi-major axis, km")
     eccentricity: float = Field(ge=0, description="Eccentricity (elliptic: < 1)")
     inclination_deg: float = Field(ge=0, le=180)

@@ -139,6 +139,12 @@ def merge_item(defaults: dict, item: dict) -> dict:
     return base
 
 
+def planned_cost_of(req: BudgetRequest, settings: Settings, source=None) -> Cost:
+    """``planned_cost`` of a request, building what it needs (``source``: see ``budget_inputs``)."""
+    source = orbit_source(req) if source is None else source
+    return planned_cost(req, settings, source, _reference_source(req), build_span(req, settings))
+
+
 def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=None) -> int:
     """Cheap up-front estimate of the quadrature nodes one request needs, after checking the
     request's whole estimated cost (``planned_cost``): initial panels of
@@ -146,9 +152,7 @@ def estimate_nodes(req: BudgetRequest, settings: Settings | None = None, source=
     splitting adds more, which the per-request ``MAX_NODES`` still bounds. Raises
     ``PhysicsInputError`` for an unusable orbit or span, or a cost over a limit.
     """
-    settings = settings or get_settings()
-    source = orbit_source(req) if source is None else source
-    return planned_cost(req, settings, source, _reference_source(req), build_span(req, settings)).nodes
+    return planned_cost_of(req, settings or get_settings(), source).nodes
 
 
 def budget_result(request, settings: Settings | None = None):
