@@ -21,12 +21,14 @@ from __future__ import annotations
 
 import asyncio
 import contextlib
+import json
 import math
 from dataclasses import dataclass
 from typing import Annotated, Any
 
 from fastapi import Depends, Request
 from fastapi.concurrency import run_in_threadpool
+from fastapi.responses import Response
 from taubudget.physics.budget import initial_panel_s, series_point_count
 from taubudget.physics.cancel import DEADLINE_REASON, CancelToken, ComputationCancelled, cancellation
 from taubudget.physics.constants import SECONDS_PER_DAY
@@ -201,3 +203,49 @@ class Compute:
 
 
 ComputeDep = Annotated[Compute, Depends(Compute)]
+
+
+# --- Rendering large responses off the event loop ----------------------------------------------
+
+_JSON_OPTIONS = {"ensure_ascii": False, "allow_nan": False, "separators": (",", ":")}
+RENDER_SLICE = 4096
+"""List elements encoded per ``json.dumps`` call: the C encoder holds the GIL for one call, so a
+20 MB series is encoded in ~1 ms slices and the event loop keeps answering between them."""
+
+
+def _encode(value: Any, out: list[str]) -> None:
+    if isinstance(value, dict) and all(isinstance(k, str) for k in value):
+        out.append("{")
+        for i, (k, v) in enumerate(value.items()):
+            out.append(("," if i else "") + json.dumps(k, **_JSON_OPTIONS) + ":")
+            _encode(v, out)
+        out.append("}")
+    elif isinstance(value, list) and len(value) > RENDER_SLICE:
+        out.append("[")
+        for i in range(0, len(value), RENDER_SLICE):
+            piece = value[i:i + RENDER_SLICE]
+            if any(isinstance(v, dict | list) for v in piece):
+                parts: list[str] = []
+                for j, v in enumerate(piece):
+                    parts.append("," if (i or j) else "")
+                    _encode(v, parts)
+                out.append("".join(parts))
+            else:
+                out.append(("," if i else "") + json.dumps(piece, **_JSON_OPTIONS)[1:-1])
+        out.append("]")
+    else:
+        out.append(json.dumps(value, **_JSON_OPTIONS))
+
+
+def render_json(content: Any) -> bytes:
+    """The same bytes as Starlette's JSONResponse, encoded in slices (see RENDER_SLICE)."""
+    out: list[str] = []
+    _encode(content, out)
+    return "".join(out).encode("utf-8")
+
+
+async def json_response(content: Any, status_code: int = 200) -> Response:
+    """A JSON response rendered in a worker thread, in slices: a large budget or batch never
+    holds the event loop (and the liveness probe) for the length of its encoding."""
+    body = await run_in_threadpool(render_json, content)
+    return Response(body, status_code=status_code, media_type="application/json")

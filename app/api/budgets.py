@@ -15,7 +15,7 @@ from taubudget.physics.cancel import checkpoint
 from taubudget.physics.errors import PhysicsInputError
 
 from .. import csv_format
-from ..compute import ComputeDep
+from ..compute import ComputeDep, json_response
 from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_CANCELLED,
@@ -93,12 +93,12 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
     """Compute the drift budget of one clock against one reference over one span."""
     if not uploads.is_multipart(request):
         req = await run_in_threadpool(_parse_budget, await request.body())
-        return JSONResponse(await compute(budget_from_request, req, settings))
+        return await json_response(await compute(budget_from_request, req, settings))
     up = await uploads.read_upload(request, ("request",))
     document = uploads.json_document(up, "orbit")
     if document is not None:  # the request JSON itself, uploaded as a file
         req = _validate(document)
-        return JSONResponse(await compute(budget_from_request, req, settings))
+        return await json_response(await compute(budget_from_request, req, settings))
     body, parts = uploads.budget_body(up)
     try:
         req = BudgetRequest.model_validate(body, strict=False)  # form fields are text
@@ -108,7 +108,7 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
         result = await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         raise uploads.upload_physics_problem(exc, parts) from exc
-    return JSONResponse(result)
+    return await json_response(result)
 
 
 # --- Batch ---------------------------------------------------------------------------
@@ -255,6 +255,12 @@ def _plan_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings, s
     return _BatchPlan(results, planned, total_nodes, total_bytes)
 
 
+def _batch_too_large(detail: str, item_detail: str, limit_name: str, limit: int, **estimate) -> ProblemError:
+    return ProblemError(413, "Batch too large", detail, TYPE_TOO_LARGE,
+                        [{"pointer": "/items", "detail": item_detail}], limit_name=limit_name, limit=limit,
+                        **estimate)
+
+
 async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings,
                      compute, strict: bool = True) -> JSONResponse:
     """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
@@ -263,24 +269,19 @@ async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settin
     plan = await compute(_plan_batch, entries, defaults, settings, strict)
     results, total_nodes = plan.results, plan.total_nodes
     if total_nodes > settings.MAX_BATCH_NODES:
-        raise ProblemError(
-            413, "Batch too large",
+        raise _batch_too_large(
             f"The batch needs an estimated {total_nodes} quadrature nodes (items x nodes per item, "
             f"20 per initial panel), above this service's limit of {settings.MAX_BATCH_NODES} "
             "(setting TAUBUDGET_MAX_BATCH_NODES); shorten the spans or split the batch.",
-            TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {total_nodes} nodes"}],
-            limit_name="MAX_BATCH_NODES", limit=settings.MAX_BATCH_NODES, estimated_nodes=total_nodes,
-        )
+            f"estimated {total_nodes} nodes", "MAX_BATCH_NODES", settings.MAX_BATCH_NODES,
+            estimated_nodes=total_nodes)
     if plan.total_bytes > settings.MAX_RESPONSE_BYTES:
-        raise ProblemError(
-            413, "Batch too large",
+        raise _batch_too_large(
             f"The batch's response would be up to {plan.total_bytes / 1e6:.1f} MB, above this service's "
             f"limit of {settings.MAX_RESPONSE_BYTES / 1e6:g} MB (setting TAUBUDGET_MAX_RESPONSE_BYTES); "
             "use longer series steps or split the batch.",
-            TYPE_TOO_LARGE, [{"pointer": "/items", "detail": f"estimated {plan.total_bytes} bytes"}],
-            limit_name="MAX_RESPONSE_BYTES", limit=settings.MAX_RESPONSE_BYTES,
-            estimated_bytes=plan.total_bytes,
-        )
+            f"estimated {plan.total_bytes} bytes", "MAX_RESPONSE_BYTES", settings.MAX_RESPONSE_BYTES,
+            estimated_bytes=plan.total_bytes)
     for i, req, item, source in plan.planned:
         try:
             results[i]["budget"] = await compute(budget_from_request, req, settings, source)
@@ -300,7 +301,7 @@ async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settin
                                             [{"pointer": f"/items/{i}", "detail": "internal error"}])
             results[i]["status"] = 500
     ok = sum(1 for r in results if r["status"] == 200)
-    return JSONResponse({"items": results, "succeeded": ok, "failed": len(results) - ok,
+    return await json_response({"items": results, "succeeded": ok, "failed": len(results) - ok,
                          "estimated_nodes": total_nodes, "caution": CAUTION})
 
 
@@ -375,7 +376,7 @@ async def budget_csv(request: Request, q: Annotated[BudgetQuery, Query()], setti
         # A single number cannot carry the caution in its body: it travels as a header.
         return PlainTextResponse(text, headers={"X-Taubudget-Caution": CAUTION})
     if req.series_step_s is not None:
-        text = csv_format.series_csv(result)
+        text = await run_in_threadpool(csv_format.series_csv, result)  # 200,000 rows: off the loop
         name = "budget-series.csv"
     else:
         text = csv_format.summary_csv(result)
