@@ -59,7 +59,8 @@ def test_over_the_node_limit_is_refused_up_front_naming_estimate_and_limit(probl
     monkeypatch.setattr(budget_mod, "compute_budget", _must_not_run)
     leo = {"orbit": {"type": "keplerian", "epoch": "2027-03-01T00:00:00Z", "semi_major_axis_km": 6878.0,
                      "eccentricity": 0.001, "inclination_deg": 97.5},
-           "reference": "TT", "start": "2027-03-01T00:00:00Z", "duration_days": 365.0}
+           "reference": "TT", "start": "2027-03-01T00:00:00Z", "duration_days": 365.0,
+           "gravity": {"earth_zonal_degree": 0, "sun": False, "moon": False}}  # two-body period
     with TestClient(create_app(Settings(MAX_NODES=100_000))) as c:
         body = problem_of(c.post("/v1/budgets", json=leo), 422)
     err = body["errors"][0]
