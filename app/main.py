@@ -7,6 +7,7 @@ probes keep answering while a long budget computes.
 
 from __future__ import annotations
 
+import gc
 import json
 from contextlib import asynccontextmanager
 
@@ -98,10 +99,21 @@ def _load_data(app: FastAPI) -> None:
     app.state.ephemeris_loaded = len(eph.segments) > 0
 
 
+def _quiet_collector() -> None:
+    """Keep the cyclic garbage collector's pauses short: a full collection holds the GIL, and
+    with it the event loop and ``/healthz``, for a walk over every tracked object. The objects of
+    start-up (modules, timescale, ephemeris) are frozen out of those walks (Python's
+    ``gc.freeze``): while a 40,000-line OEM is parsed the longest probe fell from ~0.47 s to
+    ~0.07 s on the development machine (tests/app/test_loopback_reliability.py)."""
+    gc.collect()
+    gc.freeze()
+
+
 @asynccontextmanager
 async def lifespan(app: FastAPI):
     log_startup(app.state.settings)
     await run_in_threadpool(_load_data, app)
+    _quiet_collector()
     yield
 
 
