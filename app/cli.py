@@ -452,6 +452,9 @@ def build_parser() -> argparse.ArgumentParser:
     sv.add_argument("--workers", type=int, default=1)
     sv.add_argument("--log-level", default="info")
     sv.set_defaults(func=cmd_serve)
+    from .study_cli import add_parsers as add_study_parsers
+
+    add_study_parsers(sub)  # study submit|watch|results|list|cancel, batch
     return p
 
 

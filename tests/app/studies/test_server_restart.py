@@ -1,0 +1,96 @@
+"""A real `taubudget serve` killed with SIGKILL mid-study, restarted on the same data directory:
+the study completes and every item's result is stored exactly once.
+
+Outside truth: each item is a circular point-mass orbit whose mean rate has a closed form
+(DESIGN.md; TN36 eq. 10.6 with v^2 = GM/a).
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import httpx
+import pytest
+from support.studies import POINT_MASS_BASE, closed_form_rate, free_port, json_lines, wait_finished
+from taubudget.app.studies.store import Store
+
+REPO = Path(__file__).resolve().parents[3]
+STARTUP_TIMEOUT_S = 120.0  # imports plus DE421 on a busy shared 2-core machine
+LEASE_S = 3.0  # how long a killed server's claim on its study outlives it
+INTEGRATION_TARGET = 1e-17  # DESIGN.md: integration error below 1e-17 fractional
+ITEMS = 24
+
+
+def _start(data_dir: Path, port: int) -> subprocess.Popen:
+    env = {**os.environ, "PYTHONPATH": str(REPO), "TAUBUDGET_DATA_DIR": str(data_dir),
+           "TAUBUDGET_DASK_WORKERS": "1", "TAUBUDGET_STUDY_LEASE_SECONDS": str(LEASE_S),
+           "TAUBUDGET_DATABASE_URL": ""}
+    # A session of its own: SIGKILL to the group takes the server and its Dask worker processes at once.
+    proc = subprocess.Popen([sys.executable, "-m", "taubudget.app.cli", "serve", "--host", "127.0.0.1",
+                             "--port", str(port), "--log-level", "warning"],
+                            cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                            start_new_session=True)
+    deadline = time.monotonic() + STARTUP_TIMEOUT_S
+    while True:
+        if proc.poll() is not None:
+            pytest.fail(f"server exited with {proc.returncode}")
+        try:
+            if httpx.get(f"http://127.0.0.1:{port}/readyz", timeout=5).status_code == 200:
+                return proc
+        except httpx.TransportError:
+            pass
+        if time.monotonic() > deadline:
+            _kill(proc)
+            pytest.fail("server did not become ready")
+        time.sleep(0.2)
+
+
+def _kill(proc: subprocess.Popen) -> None:
+    try:
+        os.killpg(proc.pid, signal.SIGKILL)
+    except ProcessLookupError:
+        pass
+    proc.wait(30)
+
+
+def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
+    sizes = [7000.0 + 1500.0 * k for k in range(ITEMS)]
+    body = {"defaults": {**POINT_MASS_BASE, "duration_days": 3.0},
+            "sweep": {"parameters": [{"field": "orbit.semi_major_axis_km", "values": sizes}]}}
+    port = free_port()
+    proc = _start(tmp_path, port)
+    try:
+        with httpx.Client(base_url=f"http://127.0.0.1:{port}", timeout=30) as c:
+            resp = c.post("/v1/studies", json=body)
+            assert resp.status_code == 202, resp.text
+            study_id = resp.json()["id"]
+            deadline = time.monotonic() + 300
+            while c.get(f"/v1/studies/{study_id}").json()["done"] < 2:
+                assert time.monotonic() < deadline, "no item finished"
+                time.sleep(0.05)
+    finally:
+        _kill(proc)  # mid-study: SIGKILL, no shutdown of any kind
+    store = Store(f"sqlite:///{tmp_path / 'studies.sqlite3'}")
+    before = len(store.result_counts(study_id))
+    assert 2 <= before < ITEMS, "the kill did not land mid-study"
+    assert store.get(study_id).state == "running"
+
+    proc = _start(tmp_path, port)
+    try:
+        with httpx.Client(base_url=f"http://127.0.0.1:{port}", timeout=30) as c:
+            status = wait_finished(c.get, study_id, timeout_s=400)
+            lines = json_lines(c.get(f"/v1/studies/{study_id}/results").text)
+    finally:
+        _kill(proc)
+    assert (status["state"], status["done"], status["failed"]) == ("done", ITEMS, 0)
+    assert store.result_counts(study_id) == dict.fromkeys(range(ITEMS), 1)
+    assert [r["index"] for r in lines] == list(range(ITEMS))
+    for r in lines:
+        a_km = r["parameters"]["orbit.semi_major_axis_km"]
+        assert abs(r["budget"]["mean_fractional_rate"] - closed_form_rate(a_km)) < INTEGRATION_TARGET
+    store.close()
