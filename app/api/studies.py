@@ -39,7 +39,7 @@ _STUDY_ID = r"^[0-9a-f]{32}$"
 def _problems(*statuses: int) -> dict:
     text = {404: "No such study", 409: "The study has already finished",
             413: "Over a size limit (items of a study, body bytes)",
-            422: "Invalid input; 'errors' names each field by JSON pointer",
+            422: "Invalid input (body, path or query); 'errors' names each field by JSON pointer",
             429: "The study queue is full; retry after Retry-After seconds",
             503: "The study store cannot be reached; retry after Retry-After seconds"}
     return {s: {"description": text[s], "content": {PROBLEM_MEDIA_TYPE: {"schema": doc.ref("Problem")}}}
@@ -303,7 +303,7 @@ async def submit_study(request: Request, settings: SettingsDep):
 
 
 @router.get("/studies", summary="List the studies, newest first", response_model=StudyList,
-            responses={**_ok({"studies": [STATUS_EXAMPLE]}), **_problems(503)})
+            responses={**_ok({"studies": [STATUS_EXAMPLE]}), **_problems(422, 503)})
 async def list_studies(request: Request, limit: Annotated[int, Query(ge=1, le=500)] = 100,
                        offset: Annotated[int, Query(ge=0)] = 0):
     """The studies in the store with their progress, newest first."""
@@ -316,7 +316,7 @@ async def list_studies(request: Request, limit: Annotated[int, Query(ge=1, le=50
 
 
 @router.get("/studies/{study_id}", summary="A study's state and progress", response_model=StudyStatus,
-            responses={**_ok(STATUS_EXAMPLE), **_problems(404, 503)})
+            responses={**_ok(STATUS_EXAMPLE), **_problems(404, 422, 503)})
 async def get_study(request: Request, study_id: StudyId):
     """State, items done and failed of the total, elapsed and estimated remaining time."""
     store, s = await _study(request, study_id)
@@ -325,7 +325,7 @@ async def get_study(request: Request, study_id: StudyId):
 
 @router.delete("/studies/{study_id}", summary="Cancel a study", response_model=StudyStatus,
                responses={**_ok({**STATUS_EXAMPLE, "state": "cancelled", "estimated_remaining_s": 0.0}),
-                          **_problems(404, 409, 503)})
+                          **_problems(404, 409, 422, 503)})
 async def cancel_study(request: Request, study_id: StudyId):
     """Stop a queued or running study; the results so far stay readable."""
     store, s = await _study(request, study_id)
@@ -351,7 +351,7 @@ def _json_lines(store: Store, s: Study):
                              '"budget":{"mean_fractional_rate":-2.5343e-10},"problem":null}\n',
                              "application/x-ndjson", "One JSON object per line and finished item, in item "
                              "order: index, id, parameters (swept values), status, the budget or "
-                             "contact_plan (abridged here), problem"), **_problems(404, 503)})
+                             "contact_plan (abridged here), problem"), **_problems(404, 422, 503)})
 async def study_results(request: Request, study_id: StudyId):
     """Each finished item's id, swept parameters and its result or problem, streamed from the store."""
     store, s = await _study(request, study_id)
@@ -370,7 +370,7 @@ def _csv(store: Store, s: Study):
             responses={**_ok("id,status,orbit.semi_major_axis_km,mean_rate_us_per_day,...\r\n"
                              "0,200,7000.0,-21.8967,...\r\n", "text/csv",
                              "One row per finished item: id, status, the swept parameters, headline figures, "
-                             "problem"), **_problems(404, 503)})
+                             "problem"), **_problems(404, 422, 503)})
 async def study_results_csv(request: Request, study_id: StudyId):
     """One CSV row per finished item with its swept parameters and headline figures."""
     store, s = await _study(request, study_id)

@@ -64,8 +64,11 @@ def connect(settings: Settings):
     if settings.DASK_SCHEDULER_ADDRESS:
         client = Client(settings.DASK_SCHEDULER_ADDRESS, timeout="30s", set_as_default=False)
     else:
+        # No dashboard; the scheduler's small HTTP server (health routes) on a free loopback port
+        # rather than its default 8787, which another cluster on the machine may hold.
         cluster = LocalCluster(n_workers=embedded_workers(settings), threads_per_worker=1, processes=True,
-                               dashboard_address=None, silence_logs=logging.WARNING)
+                               host="127.0.0.1", dashboard_address=None, silence_logs=logging.WARNING,
+                               scheduler_kwargs={"dashboard": False, "dashboard_address": "127.0.0.1:0"})
         client = Client(cluster, set_as_default=False)
     client.register_plugin(_plugin(), name=PreloadPlugin.name)
     return client

@@ -165,7 +165,11 @@ class Store:
         self.engine: Engine = create_engine(url, pool_pre_ping=True)
         if self.engine.dialect.name == "sqlite":
             event.listen(self.engine, "connect", _sqlite_pragmas)
-        self._migrate()
+        try:
+            self._migrate()
+        except BaseException:
+            self.engine.dispose()
+            raise
 
     def close(self) -> None:
         self.engine.dispose()
@@ -308,12 +312,10 @@ class Store:
             return 0
         rows = [{"study_id": study_id, "item_index": i, "status": s, "body": _dumps(b),
                  "finished_at": time.time()} for i, s, b in outcomes]
-        stmt = self._insert_ignoring_duplicates()
+        # RETURNING lists the rows actually inserted (a duplicate returns nothing, on both dialects).
+        stmt = self._insert_ignoring_duplicates().returning(results.c.item_index)
         with self.engine.begin() as conn:
-            n = 0
-            for row in rows:  # one statement per row: rowcount tells which rows were new
-                n += conn.execute(stmt, row).rowcount
-        return n
+            return len(conn.execute(stmt, rows).all())
 
     def _insert_ignoring_duplicates(self):
         name = self.engine.dialect.name

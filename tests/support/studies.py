@@ -61,3 +61,11 @@ def closed_form_rate(a_km: float) -> float:
     from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2, L_G
 
     return (L_G - 1.5 * GM_EARTH_TCG_M3_PER_S2 / (a_km * 1e3 * C2_M2_PER_S2)) / (1 - L_G)
+
+
+def dask_command() -> str:
+    """The `dask` command of this environment (installed with dask[distributed])."""
+    import sys
+    from pathlib import Path
+
+    return str(Path(sys.executable).parent / "dask")

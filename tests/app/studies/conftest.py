@@ -15,3 +15,17 @@ def study_client(tmp_path_factory):
                         MAX_QUEUED_STUDY_ITEMS=40, STUDY_LEASE_SECONDS=10)
     with TestClient(create_app(settings)) as c:
         yield c
+
+
+@pytest.fixture(scope="session")
+def postgres():
+    """A real PostgreSQL server on a free loopback port for the whole session (stopped at its end)."""
+    from support.postgres import Postgres
+    from support.studies import free_port
+
+    server = Postgres(free_port())
+    server.start()
+    try:
+        yield server
+    finally:
+        server.stop()

@@ -1,4 +1,5 @@
-"""The study store on SQLite: schema version, exactly-once results, unfinished items, leases."""
+"""The study store on SQLite and on a real PostgreSQL server: schema version, exactly-once results,
+unfinished items, leases (the same tests on both dialects)."""
 
 from __future__ import annotations
 
@@ -7,9 +8,13 @@ from sqlalchemy import text
 from taubudget.app.studies.store import SCHEMA_VERSION, SchemaTooNew, Store
 
 
-@pytest.fixture
-def store(tmp_path):
-    s = Store(f"sqlite:///{tmp_path / 'studies.sqlite3'}")
+@pytest.fixture(params=["sqlite", "postgresql"])
+def store(request, tmp_path):
+    if request.param == "sqlite":
+        url = f"sqlite:///{tmp_path / 'studies.sqlite3'}"
+    else:
+        url = request.getfixturevalue("postgres").new_database()
+    s = Store(url)
     yield s
     s.close()
 
