@@ -247,7 +247,7 @@ def cmd_batch(args) -> int:
     except (OSError, ValueError) as exc:
         print(f"invalid batch: {exc}", file=sys.stderr)
         return 2
-    settings_json = get_settings().model_dump_json()
+    settings_json = study_items.item_settings(get_settings()).model_dump_json()
     key = study_items.RESULT_KEY[kind]
     bar = Progress()
     started = time.monotonic()

@@ -23,7 +23,7 @@ import uuid
 
 from ..problems import TYPE_INTERNAL, problem
 from ..settings import Settings
-from .items import preload, run_item
+from .items import item_settings, preload, run_item
 from .store import Store
 
 log = logging.getLogger("taubudget.studies")
@@ -80,7 +80,7 @@ class StudyRunner:
     def __init__(self, store: Store, settings: Settings, poll_s: float = 1.0):
         self.store, self.settings, self.poll_s = store, settings, poll_s
         self.owner = f"{socket.gethostname()}:{os.getpid()}:{uuid.uuid4().hex[:8]}"
-        self._settings_json = settings.model_dump_json()
+        self._settings_json = item_settings(settings).model_dump_json()
         self._wake = threading.Event()
         self._stop = threading.Event()
         self._thread: threading.Thread | None = None

@@ -129,6 +129,13 @@ def _check_cost(req, settings: Settings, source) -> None:
         )
 
 
+def item_settings(settings: Settings) -> Settings:
+    """The settings a study item runs under: a mission-life span (MAX_STUDY_SPAN_DAYS) instead of the
+    interactive MAX_SPAN_DAYS; the item's cost stays bounded by MAX_NODES and the deadline."""
+    return settings.model_copy(update={"MAX_SPAN_DAYS": max(settings.MAX_SPAN_DAYS,
+                                                            settings.MAX_STUDY_SPAN_DAYS)})
+
+
 @functools.lru_cache(maxsize=8)
 def _settings(settings_json: str) -> Settings:
     return Settings.model_validate_json(settings_json)

@@ -11,7 +11,7 @@ from taubudget.app.settings import Settings
 @pytest.fixture(scope="module")
 def study_client(tmp_path_factory):
     data_dir = tmp_path_factory.mktemp("studies")
-    settings = Settings(DATA_DIR=str(data_dir), DASK_WORKERS=2, MAX_STUDY_ITEMS=50,
+    settings = Settings(DATA_DIR=str(data_dir), DASK_WORKERS=2, MAX_STUDY_ITEMS=50, MAX_NODES=200_000,
                         MAX_QUEUED_STUDY_ITEMS=40, STUDY_LEASE_SECONDS=10)
     with TestClient(create_app(settings)) as c:
         yield c

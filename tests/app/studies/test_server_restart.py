@@ -1,5 +1,6 @@
 """A real `taubudget serve` killed with SIGKILL mid-study, restarted on the same data directory:
-the study completes and every item's result is stored exactly once.
+the study completes and every item's result is stored exactly once; the `taubudget study` verbs
+then watch, fetch and submit against the restarted server.
 
 Outside truth: each item is a circular point-mass orbit whose mean rate has a closed form
 (DESIGN.md; TN36 eq. 10.6 with v^2 = GM/a).
@@ -7,6 +8,7 @@ Outside truth: each item is a circular point-mass orbit whose mean rate has a cl
 
 from __future__ import annotations
 
+import json
 import os
 import signal
 import subprocess
@@ -16,7 +18,15 @@ from pathlib import Path
 
 import httpx
 import pytest
-from support.studies import POINT_MASS_BASE, closed_form_rate, free_port, json_lines, wait_finished
+from support.studies import (
+    POINT_MASS_BASE,
+    altitude_sweep,
+    closed_form_rate,
+    csv_rows,
+    free_port,
+    json_lines,
+    wait_finished,
+)
 from taubudget.app.studies.store import Store
 
 REPO = Path(__file__).resolve().parents[3]
@@ -85,6 +95,7 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
         with httpx.Client(base_url=f"http://127.0.0.1:{port}", timeout=30) as c:
             status = wait_finished(c.get, study_id, timeout_s=400)
             lines = json_lines(c.get(f"/v1/studies/{study_id}/results").text)
+        _check_the_cli_against(f"http://127.0.0.1:{port}", study_id, tmp_path)
     finally:
         _kill(proc)
     assert (status["state"], status["done"], status["failed"]) == ("done", ITEMS, 0)
@@ -94,3 +105,29 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
         a_km = r["parameters"]["orbit.semi_major_axis_km"]
         assert abs(r["budget"]["mean_fractional_rate"] - closed_form_rate(a_km)) < INTEGRATION_TARGET
     store.close()
+
+
+def _cli(*args: str) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "taubudget.app.cli", *args], cwd=REPO, capture_output=True,
+                          text=True, timeout=300, env={**os.environ, "PYTHONPATH": str(REPO)})
+
+
+def _check_the_cli_against(server: str, study_id: str, tmp_path: Path) -> None:
+    """`taubudget study watch|results|submit` against the restarted server."""
+    watched = _cli("study", "watch", study_id, "--server", server)
+    assert watched.returncode == 0, watched.stderr
+    assert f"{ITEMS}/{ITEMS} finished, 0 failed" in watched.stderr and "(done)" in watched.stderr
+    table = _cli("study", "results", study_id, "--csv", "--server", server)
+    assert table.returncode == 0, table.stderr
+    rows = csv_rows(table.stdout)
+    assert [int(r["id"]) for r in rows] == list(range(ITEMS))
+    for r in rows:
+        rate = closed_form_rate(float(r["orbit.semi_major_axis_km"]))
+        assert abs(float(r["mean_fractional_rate"]) - rate) < INTEGRATION_TARGET
+    spec = tmp_path / "small.json"
+    spec.write_text(json.dumps(altitude_sweep([8000.0, 9000.0])))
+    submitted = _cli("study", "submit", str(spec), "--server", server, "--watch", "--interval-s", "0.2")
+    assert submitted.returncode == 0, submitted.stderr
+    assert "2 items" in submitted.stdout and "2/2 finished, 0 failed" in submitted.stderr
+    missing = _cli("study", "watch", "0" * 32, "--server", server)
+    assert missing.returncode == 2 and "HTTP 404" in missing.stderr

@@ -14,19 +14,15 @@ from pathlib import Path
 from support.studies import (
     POINT_MASS_BASE,
     altitude_sweep,
+    closed_form_rate,
     csv_rows,
     json_lines,
     wait_finished,
 )
-from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2, L_G
 
 SAMPLES = Path(__file__).resolve().parents[3] / "sample_orbits"
 ONE_NS_PER_DAY_US = 0.001  # Kouba (2004) quotes the rate to 1 ps/day; the project's tolerance is 1 ns/day
 INTEGRATION_TARGET = 1e-17  # DESIGN.md: integration error below 1e-17 fractional
-
-
-def _closed_form_rate(a_km: float) -> float:
-    return (L_G - 1.5 * GM_EARTH_TCG_M3_PER_S2 / (a_km * 1e3 * C2_M2_PER_S2)) / (1 - L_G)
 
 
 def test_a_sweep_runs_in_the_background_and_matches_the_closed_form_and_single_requests(study_client):
@@ -48,7 +44,7 @@ def test_a_sweep_runs_in_the_background_and_matches_the_closed_form_and_single_r
         a_km, e = r["parameters"]["orbit.semi_major_axis_km"], r["parameters"]["orbit.eccentricity"]
         assert r["status"] == 200 and r["problem"] is None
         if e == 0.0:
-            assert abs(r["budget"]["mean_fractional_rate"] - _closed_form_rate(a_km)) < INTEGRATION_TARGET
+            assert abs(r["budget"]["mean_fractional_rate"] - closed_form_rate(a_km)) < INTEGRATION_TARGET
         if a_km == 26561.4 and e == 0.0:
             assert abs(r["budget"]["mean_rate_us_per_day"] - 38.575008) < ONE_NS_PER_DAY_US
         single = copy.deepcopy(POINT_MASS_BASE)
@@ -169,3 +165,23 @@ def test_a_full_queue_pushes_back_and_cancelling_frees_it(study_client, problem_
     again = c.post("/v1/studies", json=altitude_sweep([7000.0]))
     assert again.status_code == 202
     assert wait_finished(c.get, again.json()["id"])["state"] == "done"
+
+
+def test_items_are_bounded_by_cost_not_by_the_interactive_span_limit(study_client, problem_of):
+    """A two-year GEO budget (~3e4 nodes) runs as a study item though /v1/budgets refuses its span
+    (MAX_SPAN_DAYS 400); a three-year LEO (~3e5 nodes, above MAX_NODES 2e5 here) records a 413."""
+    c = study_client
+    geo = {**POINT_MASS_BASE["orbit"], "semi_major_axis_km": 42164.0}
+    leo = {**POINT_MASS_BASE["orbit"], "semi_major_axis_km": 7000.0}
+    defaults = {k: v for k, v in POINT_MASS_BASE.items() if k not in ("orbit", "duration_days")}
+    single = {**defaults, "orbit": geo, "duration_days": 730.0}
+    problem_of(c.post("/v1/budgets", json=single), 422)
+    resp = c.post("/v1/studies", json={"defaults": {**defaults, "duration_days": 730.0}, "items": [
+        {"id": "geo-2y", "orbit": geo}, {"id": "leo-3y", "orbit": leo, "duration_days": 1096.0}]})
+    assert resp.status_code == 202, resp.text
+    status = wait_finished(c.get, resp.json()["id"])
+    assert (status["done"], status["failed"]) == (1, 1)
+    geo_line, leo_line = json_lines(c.get(f"/v1/studies/{status['id']}/results").text)
+    assert geo_line["budget"]["span_s"] == 730.0 * 86400.0
+    assert abs(geo_line["budget"]["mean_fractional_rate"] - closed_form_rate(42164.0)) < INTEGRATION_TARGET
+    assert leo_line["status"] == 413 and leo_line["problem"]["limit_name"] == "MAX_NODES"
