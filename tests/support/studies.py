@@ -69,3 +69,15 @@ def dask_command() -> str:
     from pathlib import Path
 
     return str(Path(sys.executable).parent / "dask")
+
+
+def kill_group(proc) -> None:
+    """SIGKILL a process started with ``start_new_session=True`` and everything in its session."""
+    import os
+    import signal
+
+    try:
+        os.killpg(proc.pid, signal.SIGKILL)
+    except ProcessLookupError:
+        pass
+    proc.wait(30)

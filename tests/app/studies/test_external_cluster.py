@@ -7,8 +7,6 @@ Outside truth: circular point-mass orbits against the closed-form rate (DESIGN.m
 
 from __future__ import annotations
 
-import os
-import signal
 import subprocess
 import time
 
@@ -21,6 +19,7 @@ from support.studies import (
     dask_command,
     free_port,
     json_lines,
+    kill_group,
     wait_finished,
 )
 from taubudget.app.main import create_app
@@ -34,14 +33,6 @@ def _spawn(args: list[str]) -> subprocess.Popen:
     # Each process in a session of its own, so a worker (and its nanny's child) dies as one.
     return subprocess.Popen([dask_command(), *args], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
                             start_new_session=True)
-
-
-def _kill(proc: subprocess.Popen) -> None:
-    try:
-        os.killpg(proc.pid, signal.SIGKILL)
-    except ProcessLookupError:
-        pass
-    proc.wait(30)
 
 
 @pytest.fixture(scope="module")
@@ -59,7 +50,7 @@ def cluster():
         yield address, workers
     finally:
         for p in [*workers, scheduler]:
-            _kill(p)
+            kill_group(p)
 
 
 @pytest.fixture(scope="module")
@@ -104,7 +95,7 @@ def test_a_study_completes_when_a_worker_is_killed_mid_study(external_client, cl
         assert time.monotonic() < deadline, "no item finished"
         time.sleep(0.05)
     assert done < n - 4, "the worker must die mid-study"
-    _kill(workers[0])  # SIGKILL: its in-flight items are lost and rerun on the other worker
+    kill_group(workers[0])  # SIGKILL: its in-flight items are lost and rerun on the other worker
     status = wait_finished(external_client.get, study_id, timeout_s=400)
     assert (status["state"], status["done"], status["failed"]) == ("done", n, 0)
     lines = json_lines(external_client.get(f"/v1/studies/{study_id}/results").text)

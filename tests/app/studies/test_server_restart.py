@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import json
 import os
-import signal
 import subprocess
 import sys
 import time
@@ -25,6 +24,7 @@ from support.studies import (
     csv_rows,
     free_port,
     json_lines,
+    kill_group,
     wait_finished,
 )
 from taubudget.app.studies.store import Store
@@ -55,17 +55,9 @@ def _start(data_dir: Path, port: int) -> subprocess.Popen:
         except httpx.TransportError:
             pass
         if time.monotonic() > deadline:
-            _kill(proc)
+            kill_group(proc)
             pytest.fail("server did not become ready")
         time.sleep(0.2)
-
-
-def _kill(proc: subprocess.Popen) -> None:
-    try:
-        os.killpg(proc.pid, signal.SIGKILL)
-    except ProcessLookupError:
-        pass
-    proc.wait(30)
 
 
 def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
@@ -84,7 +76,7 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
                 assert time.monotonic() < deadline, "no item finished"
                 time.sleep(0.05)
     finally:
-        _kill(proc)  # mid-study: SIGKILL, no shutdown of any kind
+        kill_group(proc)  # mid-study: SIGKILL, no shutdown of any kind
     store = Store(f"sqlite:///{tmp_path / 'studies.sqlite3'}")
     before = len(store.result_counts(study_id))
     assert 2 <= before < ITEMS, "the kill did not land mid-study"
@@ -97,7 +89,7 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
             lines = json_lines(c.get(f"/v1/studies/{study_id}/results").text)
         _check_the_cli_against(f"http://127.0.0.1:{port}", study_id, tmp_path)
     finally:
-        _kill(proc)
+        kill_group(proc)
     assert (status["state"], status["done"], status["failed"]) == ("done", ITEMS, 0)
     assert store.result_counts(study_id) == dict.fromkeys(range(ITEMS), 1)
     assert [r["index"] for r in lines] == list(range(ITEMS))
