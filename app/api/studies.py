@@ -223,7 +223,7 @@ def _batch_entries(raw_items: list) -> list:
             break
     if errors:
         p = validation_problem(errors, "The study")
-        raise ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"])
+        raise ProblemError.from_problem(p)
     return [(item["id"], None, item) for item in raw_items]
 
 
@@ -251,7 +251,7 @@ def _json_plan(payload: Any, settings) -> tuple[str, dict, Any, int]:
         spec = StudyRequest.model_validate(payload)
     except ValidationError as exc:
         p = validation_problem(validation_errors(exc, payload), "The study")
-        raise ProblemError(p["status"], p["title"], p["detail"], p["type"], p["errors"]) from exc
+        raise ProblemError.from_problem(p) from exc
     origin, stored, entries, total = _plan(spec, settings)
     stored["name"] = spec.name
     return spec.kind, origin, stored, entries, total
