@@ -16,19 +16,29 @@ import sys
 from pydantic import ValidationError
 from taubudget.physics.errors import PhysicsInputError
 
+from .input_hints import hint, json_decimal_comma_hint
+
 
 def _load_json(path: str):
     if path == "-":
-        return json.load(sys.stdin)
-    with open(path, encoding="utf-8") as fh:
-        return json.load(fh)
+        text = sys.stdin.read()
+    else:
+        with open(path, encoding="utf-8") as fh:
+            text = fh.read()
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        comma = json_decimal_comma_hint(exc.doc, exc.pos)
+        if comma is None:
+            raise
+        raise json.JSONDecodeError(f"{exc.msg}; {comma}", exc.doc, exc.pos) from None
 
 
 def _fmt_validation(exc: ValidationError) -> str:
     lines = []
     for err in exc.errors():
         loc = ".".join(str(p) for p in err["loc"])
-        lines.append(f"  {loc or '(body)'}: {err['msg']}")
+        lines.append(f"  {loc or '(body)'}: {hint(err) or err['msg']}")
     return "invalid request:\n" + "\n".join(lines)
 
 
