@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 
 from pydantic import ValidationError
@@ -264,10 +265,26 @@ def cmd_budget(args) -> int:
         body = _load_json(args.request)
         if args.orbit_file is not None:
             body = _with_orbit_file(body, args)
-        req = BudgetRequest.model_validate(body)
     except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
         print(f"cannot read {args.request}: {exc}", file=sys.stderr)
         return 2
+    except FormatError as exc:
+        print(f"invalid orbit file {args.orbit_file}: {exc}", file=sys.stderr)
+        return 2
+    except ValueError as exc:  # a request that is not an object, or an orbit that is not options
+        print(f"invalid request: {exc}", file=sys.stderr)
+        return 2
+    if args.clock_from is not None:
+        try:
+            body = _with_clock_from(body, _load_json(args.clock_from))
+        except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+            print(f"cannot read {args.clock_from}: {exc}", file=sys.stderr)
+            return 2
+        except ValueError as exc:
+            print(f"invalid stability result {args.clock_from}: {exc}", file=sys.stderr)
+            return 2
+    try:
+        req = BudgetRequest.model_validate(body)
     except FormatError as exc:
         print(f"invalid orbit file {args.orbit_file}: {exc}", file=sys.stderr)
         return 2
@@ -284,9 +301,32 @@ def cmd_budget(args) -> int:
     _plot(args.plot, "budget", result)
     if args.json:
         _print_json(result)
+    elif args.csv:
+        from .csv_format import budget_csv_text
+
+        sys.stdout.write(budget_csv_text(result))
     else:
         print(render_table(result))
     return 0
+
+
+def _with_clock_from(body, stability) -> dict:
+    """The request with its clock noise taken from a stability result's ``clock_block``.
+
+    The request's own clock keys other than the noise (drift_per_day, initial offsets, f_h_hz)
+    are kept; preset, h_alpha and adev_points are replaced.
+    """
+    if not isinstance(body, dict):
+        raise ValueError("the request is not a JSON object")
+    block = stability.get("clock_block") if isinstance(stability, dict) else None
+    if not isinstance(block, dict):
+        raise ValueError("it has no 'clock_block' (write it with 'taubudget stability --json' or "
+                         "POST /v1/clock-stability)")
+    own = body.get("clock") or {}
+    if not isinstance(own, dict):
+        raise ValueError("the request's 'clock' is not an object")
+    kept = {k: v for k, v in own.items() if k not in ("preset", "h_alpha", "adev_points")}
+    return {**body, "clock": {**block, **kept}}
 
 
 def render_contacts(plan: dict) -> str:
@@ -414,8 +454,18 @@ def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="taubudget", description="Relativistic clock drift budgets.")
     sub = p.add_subparsers(dest="verb", required=True)
     b = sub.add_parser("budget", help="compute a budget from a request JSON file ('-' for stdin)")
-    b.add_argument("request")
-    b.add_argument("--json", action="store_true", help="print the response JSON")
+    b.add_argument("request", metavar="REQUEST",
+                   help="budget request as JSON (the body of POST /v1/budgets; see sample_orbits/), "
+                   "a file path or '-' for stdin")
+    b_fmt = b.add_mutually_exclusive_group()
+    b_fmt.add_argument("--json", action="store_true", help="print the response JSON")
+    b_fmt.add_argument("--csv", action="store_true",
+                       help="print CSV: the summary (field,value rows), then the series when the "
+                       "request has series_step_s (as GET /v1/budgets.csv)")
+    b.add_argument("--clock-from", metavar="STABILITY_JSON", default=None,
+                   help="take the clock's noise from a stability result ('taubudget stability --json' "
+                   "or POST /v1/clock-stability); the request's clock block, if any, keeps its drift "
+                   "and offsets")
     b.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     b.add_argument("--orbit-file", default=None,
                    help="take the orbit from this file (OMM, OPM, OEM, SP3, TLE; type detected); the "
@@ -450,7 +500,9 @@ def build_parser() -> argparse.ArgumentParser:
     st.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     st.set_defaults(func=cmd_stability)
     c = sub.add_parser("contacts", help="plan ground contacts and resynchronisation from a request JSON file")
-    c.add_argument("request")
+    c.add_argument("request", metavar="REQUEST",
+                   help="contact-plan request as JSON (the body of POST /v1/contact-plans; see "
+                   "sample_orbits/contact_plan_*.json), a file path or '-' for stdin")
     fmt = c.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print the response JSON")
     fmt.add_argument("--csv", action="store_true", help="print the pass table as CSV")
@@ -468,9 +520,22 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+SIGPIPE_EXIT_STATUS = 128 + 13
+"""Exit status of a Unix tool stopped by SIGPIPE (128 + signal 13), e.g. under '| head'."""
+
+
 def main(argv: list[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
-    return args.func(args)
+    try:
+        status = args.func(args)
+        sys.stdout.flush()
+        return status
+    except BrokenPipeError:
+        # The reader closed the pipe (e.g. '| head'): stop quietly, as Unix tools do. Point stdout at
+        # devnull so the interpreter's final flush does not raise again.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return SIGPIPE_EXIT_STATUS
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -157,6 +157,11 @@ def series_csv(budget: dict) -> str:
     return _render(_header(budget), rows)
 
 
+def budget_csv_text(budget: dict) -> str:
+    """The budget as CSV: the series table when the budget has one, else the summary block."""
+    return series_csv(budget) if budget.get("series") is not None else summary_csv(budget)
+
+
 def field_text(budget: dict, name: str) -> str:
     """The single value of summary field ``name`` as text; ``MissingValue`` if it has none."""
     try:
