@@ -4,6 +4,7 @@ contract: add fields, never rename or drop one. Offsets are clock minus referenc
 
 from __future__ import annotations
 
+import json
 from typing import Literal
 
 from pydantic import Field, model_validator
@@ -57,10 +58,40 @@ class SyncPolicyIn(_Strict):
         return self
 
 
+def station_networks() -> dict[str, list[dict]]:
+    """The ground networks shipped with the package, by file stem (``app/networks/*.json``)."""
+    from importlib.resources import files
+
+    out = {}
+    for entry in files("taubudget.app").joinpath("networks").iterdir():
+        if entry.name.endswith(".json"):
+            out[entry.name.removesuffix(".json")] = json.loads(entry.read_text(encoding="utf-8"))["stations"]
+    return out
+
+
+STATION_FILES = tuple(sorted(station_networks()))
+"""Names a request may give in ``stations_file`` (a packaged network; never a path)."""
+
+
 class ContactPlanRequest(BudgetRequest):
     """A budget request plus ground stations, a sync policy and a time-error budget."""
 
-    stations: list[StationIn] = Field(min_length=1, max_length=MAX_STATIONS)
+    stations: list[StationIn] = Field(
+        default_factory=list, max_length=MAX_STATIONS,
+        description="Ground stations; may be left out when stations_file names a network")
+    stations_file: Literal[STATION_FILES] | None = Field(  # type: ignore[valid-type]
+        None, description="A ground network shipped with the service, by name (e.g. 'ground_network', "
+        "the four invented stations of sample_orbits/ground_network.json); its stations come first, "
+        "then any in 'stations'. A name, never a path: the server opens no user-given file")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _fold_in_station_file(cls, data):
+        if isinstance(data, dict) and isinstance(data.get("stations_file"), str):
+            network = station_networks().get(data["stations_file"])
+            if network is not None:
+                return {**data, "stations": [*network, *(data.get("stations") or [])]}
+        return data
     sync_policy: SyncPolicyIn = Field(default_factory=SyncPolicyIn)
     clock: ClockIn | None = Field(None, description="Oscillator model (the budget's clock block); "
                                   "none: relativity only")
@@ -72,6 +103,8 @@ class ContactPlanRequest(BudgetRequest):
 
     @model_validator(mode="after")
     def _unique_names(self):
+        if not self.stations:
+            raise ValueError("give 'stations' or a 'stations_file' (known: " + ", ".join(STATION_FILES) + ")")
         names = [s.name for s in self.stations]
         if len(set(names)) != len(names):
             raise ValueError("station names must be unique")
