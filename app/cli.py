@@ -329,22 +329,41 @@ def _with_clock_from(body, stability) -> dict:
     return {**body, "clock": {**block, **kept}}
 
 
+def _utc_seconds(iso: str) -> str:
+    """'2027-03-01T09:02:30.792643Z' -> '2027-03-01T09:02:30Z' (the table's resolution)."""
+    return iso.split(".")[0].rstrip("Z") + "Z"
+
+
 def render_contacts(plan: dict) -> str:
     """A plain-text summary of a contact plan."""
-    out = [f"{'station':<18} {'AOS (UTC)':<27} {'LOS (UTC)':<27} {'dur s':>7} {'max el':>7} "
-           f"{'offset AOS ns':>14} {'sync':>4}"]
+    k = plan["k_sigma"]
+    synced = f"{k:g}sig w/ syncs"
+    out = [f"{'station':<18} {'AOS (UTC)':<20} {'LOS (UTC)':<20} {'dur s':>6} {'max el':>6} "
+           f"{'free-run ns':>12} {synced:>14} {'sync':>4}"]
     for p in plan["passes"]:
-        out.append(f"{p['station']:<18} {p['aos_utc']:<27} {p['los_utc']:<27} {p['duration_s']:7.0f} "
-                   f"{p['max_elevation_deg']:7.2f} {p['offset_at_aos_ns']:14.3f} "
+        bound = p.get("bound_at_aos_with_syncs_ns")
+        bound_text = "" if bound is None else f"{bound:.3f}"
+        aos, los = _utc_seconds(p["aos_utc"]), _utc_seconds(p["los_utc"])
+        out.append(f"{p['station'][:18]:<18} {aos:<20} {los:<20} {p['duration_s']:6.0f} "
+                   f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} {bound_text:>14} "
                    f"{'yes' if p.get('used_for_sync') else '':>4}")
+    rec = plan.get("recommendation") or {}
     out += [
+        "",
+        "free-run ns: offset at AOS running free since the span start, ignoring every sync;",
+        f"{synced}: |time error| + {k:g} sigma at AOS with the plan's syncs applied.",
         "",
         f"syncs: {len(plan['syncs'])}   worst error: {plan['worst_error_ns']:.3f} ns   "
         f"worst gap: {plan['worst_gap_s']:.0f} s   budget {plan['time_error_budget_ns']:g} ns at "
-        f"{plan['k_sigma']:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
-        "",
-        plan["caution"],
+        f"{k:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
     ]
+    if rec.get("summary"):
+        out.append(f"recommendation: {rec['summary']}")
+    if plan["syncs"]:
+        worst = max(plan["syncs"], key=lambda s: s["bound_before_sync_ns"])
+        out.append(f"largest error just before a sync: {worst['bound_before_sync_ns']:.3f} ns "
+                   f"({k:g} sigma) at {_utc_seconds(worst['time_utc'])}, {worst['station']}")
+    out += ["", plan["caution"]]
     return "\n".join(out)
 
 

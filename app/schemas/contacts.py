@@ -136,8 +136,14 @@ class PassOut(_Open):
     culmination_utc: str
     duration_s: float
     max_elevation_deg: float
-    offset_at_aos_ns: float = Field(description="Free-running offset since the span start (no syncs), ns")
-    offset_at_los_ns: float
+    offset_at_aos_ns: float = Field(
+        description="Free-running offset since the span start, ignoring every sync (relativistic part "
+        "plus the clock's deterministic part), ns; see error_at_aos_with_syncs_ns for the plan's error")
+    offset_at_los_ns: float = Field(description="Free-running offset at LOS, ignoring every sync, ns")
+    error_at_aos_with_syncs_ns: float | None = Field(
+        None, description="Deterministic time error at AOS with the request's syncs applied, ns")
+    bound_at_aos_with_syncs_ns: float | None = Field(
+        None, description="|error_at_aos_with_syncs_ns| + k_sigma x 1-sigma at AOS, syncs applied, ns")
     light_time_us: float = Field(description="At culmination")
     sagnac_correction_ns: float = Field(description="At culmination")
     fractional_frequency_shift: float = Field(description="At culmination")
@@ -178,7 +184,10 @@ class ContactPlanResponse(_Open):
     meets_budget: bool
     time_error_budget_ns: float
     k_sigma: float
-    recommendation: dict
+    recommendation: dict = Field(
+        description="Fewest syncs (greedy), the largest pass stride meeting the budget, "
+        "max_time_between_syncs_s and a summary in words ('sync at least every N h / every k-th pass "
+        "to keep 3-sigma within X ns')")
     budget: dict
     model: dict
     caution: str
