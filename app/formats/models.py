@@ -18,7 +18,7 @@ the clock *rate*.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import Literal
 
 from pydantic import AwareDatetime, Field
 
@@ -87,12 +87,9 @@ class StateVectorOrbitIn(_Strict):
 
     type: Literal["state_vector"]
     epoch: AwareDatetime = Field(description="Epoch of the state, ISO 8601 UTC")
-    # Component bounds far outside any Earth orbit (the Hill sphere is ~1.5e6 km; light speed is
-    # 3e5 km/s) keep the km -> m conversion finite; the physics then refuses unbound states by name.
-    position_gcrs_km: list[Annotated[float, Field(ge=-1e9, le=1e9)]] = Field(
-        min_length=3, max_length=3, description="GCRS position, km")
-    velocity_gcrs_km_per_s: list[Annotated[float, Field(ge=-3e5, le=3e5)]] = Field(
-        min_length=3, max_length=3, description="GCRS velocity (dx/dTCG), km/s")
+    position_gcrs_km: list[float] = Field(min_length=3, max_length=3, description="GCRS position, km")
+    velocity_gcrs_km_per_s: list[float] = Field(min_length=3, max_length=3,
+                                                description="GCRS velocity (dx/dTCG), km/s")
     force_model: ForceModelIn = Field(default_factory=ForceModelIn)
 
 
