@@ -13,6 +13,7 @@ import argparse
 import json
 import os
 import sys
+import textwrap
 
 from pydantic import ValidationError
 from taubudget.physics.errors import PhysicsInputError
@@ -126,37 +127,51 @@ def _clock_rows(ce: dict, width: int) -> list[str]:
         f"{k:<{w}}  {v}".rstrip() for k, v in rows]
 
 
-_STAT_COLUMNS = (("adev", "adev"), ("oadev", "oadev"), ("mdev", "mdev"), ("tdev_s", "tdev (s)"),
-                 ("hdev", "hdev"))
+_STAT_COLUMNS = (("mdev", "mdev"), ("tdev_s", "tdev (s)"), ("hdev", "hdev"))
+
+TERMINAL_WIDTH = 96
+"""Prose under the stability table is wrapped to this many columns (the table itself is 97)."""
 
 
 def render_stability(r: dict) -> str:
-    """A plain-text deviations table for a terminal."""
-    out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s; "
-           f"bounds at {r['confidence']:g} confidence; value [lower, upper] (terms)"]
+    """A plain-text deviations table for a terminal (under 100 columns)."""
+    out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s"]
     out += _deviation_lines(r["deviations"])
     out.append("")
-    out.append(r["caution"])
+    notes = [f"noise: power-law type identified at each tau (lag-1 autocorrelation); bounds: OADEV at "
+             f"{r['confidence']:g} confidence. ADEV, OHDEV and every bound, term count and EDF: --json."]
+    if r.get("clock_block") is not None:
+        notes.append("clock block: --json gives 'clock_block' for a budget's clock "
+                     "(taubudget budget REQUEST --clock-from STABILITY_JSON).")
+    out += [textwrap.fill(n, TERMINAL_WIDTH, break_on_hyphens=False) for n in notes]
+    out += ["", textwrap.fill(r["caution"], TERMINAL_WIDTH)]
     return "\n".join(out)
 
 
+def _noise_name(row: dict) -> str:
+    from taubudget.physics.clock import NOISE_NAMES
+
+    if row.get("noise_type"):
+        return row["noise_type"]
+    alpha = row.get("noise_alpha")
+    return "-" if alpha is None else NOISE_NAMES.get(int(round(alpha)), "-")
+
+
 def _deviation_lines(rows: list[dict]) -> list[str]:
-    head = f"{'tau_s':>12}" + "".join(f"  {label:>40}" for _, label in _STAT_COLUMNS)
+    """tau, noise type, OADEV with its bounds, MDEV, TDEV, HDEV: 97 columns."""
+    head = (f"{'tau_s':>10}  {'noise':<14}  {'oadev':>10}  {'oadev bounds':<21}"
+            + "".join(f"  {label:>10}" for _, label in _STAT_COLUMNS))
     out = [head]
     for row in rows:
-        cells = [f"{row['tau_s']:>12.6g}"]
+        value, lo, hi = row["oadev"], row["oadev_lower"], row["oadev_upper"]
+        lo_t, hi_t = ("-" if b is None else f"{b:.3g}" for b in (lo, hi))
+        bounds = "" if value is None else f"[{lo_t}, {hi_t}]"
+        cells = [f"{row['tau_s']:>10.6g}  {_noise_name(row):<14}  "
+                 f"{'-' if value is None else f'{value:.4g}':>10}  {bounds:<21}"]
         for key, _ in _STAT_COLUMNS:
-            base = key.removesuffix("_s")
-            suffix = "_s" if key.endswith("_s") else ""
-            value, lo, hi = row[key], row[f"{base}_lower{suffix}"], row[f"{base}_upper{suffix}"]
-            n = row[f"{base}_n_terms"]
-            if value is None:
-                cells.append(f"  {'-':>40}")
-            else:
-                lo_t = "-" if lo is None else f"{lo:.4g}"
-                hi_t = "-" if hi is None else f"{hi:.4g}"
-                cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>40}")
-        out.append("".join(cells))
+            v = row[key]
+            cells.append(f"  {'-' if v is None else f'{v:.4g}':>10}")
+        out.append("".join(cells).rstrip())
     return out
 
 
