@@ -75,8 +75,8 @@ def render_table(b: dict) -> str:
     width = max(len(k) for k, _ in rows)
     out = [f"{k:<{width}}  {v}" for k, v in rows]
     out.append("")
-    out.append("terms (fractional):")
-    for name, val in b["terms_fractional"].items():
+    out.append("rate terms (fractional; --json also keeps the round-1 names in terms_fractional):")
+    for name, val in (b.get("rate_terms_fractional") or b["terms_fractional"]).items():
         out.append(f"  {name:<{width - 2}}  {val: .6e}")
     if b.get("frame") == "BCRS":
         out.append(f"frame: BCRS. {b.get('tt_convention', '')}")

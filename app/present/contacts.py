@@ -7,6 +7,7 @@ import numpy as np
 from taubudget.physics.budget import CAUTION
 
 from .budget import PS_PER_S, US_PER_S, ns, ns_list, request_reference, us_per_day, utc, utc1
+from .terms import RELATIVISTIC_OFFSET_WORDS
 
 SIGNAL_POINTS = ("aos", "culmination", "los")
 
@@ -153,6 +154,7 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
         },
         "model": {
             "relativistic_offset": req.relativistic_offset,
+            "relativistic_offset_description": RELATIVISTIC_OFFSET_WORDS[req.relativistic_offset],
             "clock": clock.name,
             "clock_h_alpha": {str(a): float(h) for a, h in clock.h_alpha.items()},
             "clock_drift_per_day": clock.drift_per_day,

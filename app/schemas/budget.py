@@ -12,6 +12,7 @@ from pydantic import AwareDatetime, Field, model_validator
 
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
+from ..present.terms import RATE_TERM_DESCRIPTIONS
 from .clock import ClockErrorOut, ClockIn
 from .orbits import GravityIn, Orbit, SurfaceClockIn
 from .problems import Problem
@@ -115,7 +116,14 @@ class BudgetResponse(_Open):
     mean_fractional_rate: float = Field(
         description="Mean rate against the reference, s/s (positive: the clock gains)")
     mean_rate_us_per_day: float
-    terms_fractional: dict[str, float]
+    terms_fractional: dict[str, float] = Field(
+        description="Share of each rate term, fractional, under the round-1 names (kept for one "
+        "version; deprecated): monopole = earth_monopole, zonal = earth_zonal, tidal = sun_moon_tidal, "
+        "reference_scale (GCRS) and time_scale (BCRS) = time_scale_rate, reference_clock = "
+        "ground_reference_clock; see rate_terms_fractional")
+    rate_terms_fractional: dict[str, float] | None = Field(
+        None, description="The same terms under the trade's names: " + "; ".join(
+            f"{k}: {v}" for k, v in RATE_TERM_DESCRIPTIONS.items()))
     frequency_preset_fractional: float = Field(
         description="Fractional frequency offset that nulls the mean rate")
     preset_frequency_hz: float | None

@@ -7,10 +7,11 @@ from __future__ import annotations
 import json
 from typing import Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
+from ..present.terms import RELATIVISTIC_OFFSET_ALIASES
 from .budget import BudgetRequest
 from .clock import ClockIn
 
@@ -97,9 +98,21 @@ class ContactPlanRequest(BudgetRequest):
                                   "none: relativity only")
     time_error_budget_ns: float = Field(gt=0, description="Allowed |time error| of the k-sigma envelope, ns")
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic error")
-    relativistic_offset: Literal["after_preset", "after_correction", "raw"] = Field(
-        "after_preset", description="Which relativistic offset the clock carries: after the frequency preset "
-        "(default), also after the user-segment eccentricity correction, or with no preset")
+    relativistic_offset: Literal[
+        "frequency_offset", "frequency_offset_and_eccentricity_correction", "uncorrected",
+        "after_preset", "after_correction", "raw",
+    ] = Field(
+        "after_preset", description="Which relativistic offset the clock carries: 'frequency_offset' "
+        "(default; the factory frequency offset, or preset, removes the mean rate), "
+        "'frequency_offset_and_eccentricity_correction' (the user segment also removes -(2/c^2) r.v), "
+        "'uncorrected' (no preset). The round-1 names after_preset, after_correction and raw are "
+        "accepted for one version and are what the response repeats")
+
+    @field_validator("relativistic_offset")
+    @classmethod
+    def _old_offset_name(cls, value: str) -> str:
+        # One spelling inside: the round-1 name, which the response's model block repeats.
+        return RELATIVISTIC_OFFSET_ALIASES.get(value, value)
 
     @model_validator(mode="after")
     def _unique_names(self):
