@@ -25,7 +25,7 @@ SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",
     "mean_rate_us_per_day",
     *(f"terms_fractional.{name}" for name in TERM_NAMES),
-    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES[name]}" for name in TERM_NAMES),
+    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES.get(name, name)}" for name in TERM_NAMES),
     "frequency_preset_fractional",
     "preset_frequency_hz",
     "nominal_frequency_hz",
@@ -77,7 +77,7 @@ CLOCK_SUMMARY_FIELDS: tuple[str, ...] = (
 
 BCRS_SUMMARY_FIELDS: tuple[str, ...] = (
     *(f"terms_fractional.{name}" for name in BCRS_TERM_NAMES if name != "velocity"),
-    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES[name]}" for name in BCRS_TERM_NAMES
+    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES.get(name, name)}" for name in BCRS_TERM_NAMES
       if name not in ("velocity", "time_scale")),
     "tt_convention",
     "position_term.amplitude_ns",

@@ -21,6 +21,7 @@ RATE_TERM_TRADE_NAMES = {
     "sun": "sun",
     "earth": "earth",
     "moon": "moon",
+    "mars": "mars",
     "planets": "planets",
     "time_scale": "time_scale_rate",
     "reference": "reference",
@@ -40,6 +41,7 @@ RATE_TERM_DESCRIPTIONS = {
     "sun": "the Sun's potential at the clock (BCRS)",
     "earth": "the Earth's potential at the clock, monopole plus zonal terms when near (BCRS)",
     "moon": "the Moon's potential at the clock (BCRS)",
+    "mars": "the potential of Mars at the clock (BCRS)",
     "planets": "the planets' potentials at the clock (BCRS)",
     "reference": "the reference's own rate against TT along the geocentre (BCRS)",
 }
