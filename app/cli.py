@@ -291,23 +291,14 @@ def cmd_budget(args) -> int:
         return 2
     if args.clock_from is not None:
         try:
-            body = _with_clock_from(body, _load_json(args.clock_from))
-        except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-            print(f"cannot read {args.clock_from}: {exc}", file=sys.stderr)
-            return 2
+            body = _with_clock_from(body, args.clock_from)
         except ValueError as exc:
-            print(f"invalid stability result {args.clock_from}: {exc}", file=sys.stderr)
+            print(exc, file=sys.stderr)
             return 2
     try:
         req = BudgetRequest.model_validate(body)
-    except FormatError as exc:
-        print(f"invalid orbit file {args.orbit_file}: {exc}", file=sys.stderr)
-        return 2
     except ValidationError as exc:
         print(_fmt_validation(exc), file=sys.stderr)
-        return 2
-    except ValueError as exc:  # a request that is not an object, or an orbit that is not options
-        print(f"invalid request: {exc}", file=sys.stderr)
         return 2
     try:
         result = budget_from_request(req)
@@ -325,21 +316,26 @@ def cmd_budget(args) -> int:
     return 0
 
 
-def _with_clock_from(body, stability) -> dict:
-    """The request with its clock noise taken from a stability result's ``clock_block``.
+def _with_clock_from(body, path: str) -> dict:
+    """The request with its clock noise taken from the stability result in ``path`` (its
+    ``clock_block``); ValueError with the message to print if the file cannot serve.
 
     The request's own clock keys other than the noise (drift_per_day, initial offsets, f_h_hz)
     are kept; preset, h_alpha and adev_points are replaced.
     """
+    try:
+        stability = _load_json(path)
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise ValueError(f"cannot read {path}: {exc}") from None
     if not isinstance(body, dict):
-        raise ValueError("the request is not a JSON object")
+        raise ValueError("invalid request: it is not a JSON object")
     block = stability.get("clock_block") if isinstance(stability, dict) else None
     if not isinstance(block, dict):
-        raise ValueError("it has no 'clock_block' (write it with 'taubudget stability --json' or "
-                         "POST /v1/clock-stability)")
+        raise ValueError(f"invalid stability result {path}: it has no 'clock_block' (write it with "
+                         "'taubudget stability --json' or POST /v1/clock-stability)")
     own = body.get("clock") or {}
     if not isinstance(own, dict):
-        raise ValueError("the request's 'clock' is not an object")
+        raise ValueError("invalid request: its 'clock' is not an object")
     kept = {k: v for k, v in own.items() if k not in ("preset", "h_alpha", "adev_points")}
     return {**body, "clock": {**block, **kept}}
 
