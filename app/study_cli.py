@@ -4,7 +4,8 @@
 uploaded as a multi-object orbit file, one item per object, with ``--defaults`` holding the rest
 of the request), ``study watch ID`` draws a progress bar until the study finishes, ``study
 results ID [--csv]`` writes its results, ``study list`` and ``study cancel ID``. The server is
-``--server`` or $TAUBUDGET_SERVER (default http://127.0.0.1:8000). ``taubudget batch FILE``
+``--server`` or $TAUBUDGET_SERVER (default http://127.0.0.1:8000); a service with API keys gets
+$TAUBUDGET_API_KEY in the X-API-Key header. ``taubudget batch FILE``
 runs a batch or a sweep in this process (or ``--workers`` processes) through the same compute
 path as the service, with a progress bar, and writes JSON (as /v1/budgets/batch) or ``--csv``.
 Exit codes: 0 done, 1 the study failed or was cancelled, 2 bad input or an HTTP error.
@@ -82,7 +83,11 @@ def _server(args) -> str:
 
 
 def _call(method: str, url: str, data: bytes | None = None, headers: dict | None = None):
-    req = urllib.request.Request(url, data=data, method=method, headers=headers or {})
+    headers = dict(headers or {})
+    key = os.environ.get("TAUBUDGET_API_KEY")
+    if key:  # a service with access control (TAUBUDGET_API_KEYS on the server)
+        headers["X-API-Key"] = key
+    req = urllib.request.Request(url, data=data, method=method, headers=headers)
     try:
         return urllib.request.urlopen(req, timeout=60)
     except urllib.error.HTTPError as exc:

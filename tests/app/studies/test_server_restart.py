@@ -34,10 +34,12 @@ STARTUP_TIMEOUT_S = 120.0  # imports plus DE421 on a busy shared 2-core machine
 LEASE_S = 3.0  # how long a killed server's claim on its study outlives it
 INTEGRATION_TARGET = 1e-17  # DESIGN.md: integration error below 1e-17 fractional
 ITEMS = 24
+API_KEY = "k3-invented-test-key-0123456789abcdef"
 
 
-def _start(data_dir: Path, port: int) -> subprocess.Popen:
+def _start(data_dir: Path, port: int, api_keys: dict | None = None) -> subprocess.Popen:
     env = {**os.environ, "PYTHONPATH": str(REPO), "TAUBUDGET_DATA_DIR": str(data_dir),
+           "TAUBUDGET_API_KEYS": json.dumps(api_keys or {}),
            "TAUBUDGET_DASK_WORKERS": "1", "TAUBUDGET_STUDY_LEASE_SECONDS": str(LEASE_S),
            "TAUBUDGET_DATABASE_URL": ""}
     # A session of its own: SIGKILL to the group takes the server and its Dask worker processes at once.
@@ -82,9 +84,11 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
     assert 2 <= before < ITEMS, "the kill did not land mid-study"
     assert store.get(study_id).state == "running"
 
-    proc = _start(tmp_path, port)
+    # The restarted server requires an API key (access control from settings): the CLI sends it.
+    proc = _start(tmp_path, port, api_keys={"planning-desk": API_KEY})
     try:
-        with httpx.Client(base_url=f"http://127.0.0.1:{port}", timeout=30) as c:
+        with httpx.Client(base_url=f"http://127.0.0.1:{port}", timeout=30,
+                          headers={"X-API-Key": API_KEY}) as c:
             status = wait_finished(c.get, study_id, timeout_s=400)
             lines = json_lines(c.get(f"/v1/studies/{study_id}/results").text)
         _check_the_cli_against(f"http://127.0.0.1:{port}", study_id, tmp_path)
@@ -99,9 +103,13 @@ def test_a_killed_server_resumes_its_study_and_stores_each_item_once(tmp_path):
     store.close()
 
 
-def _cli(*args: str) -> subprocess.CompletedProcess:
+def _cli(*args: str, key: str | None = API_KEY) -> subprocess.CompletedProcess:
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    env.pop("TAUBUDGET_API_KEY", None)
+    if key is not None:
+        env["TAUBUDGET_API_KEY"] = key
     return subprocess.run([sys.executable, "-m", "taubudget.app.cli", *args], cwd=REPO, capture_output=True,
-                          text=True, timeout=300, env={**os.environ, "PYTHONPATH": str(REPO)})
+                          text=True, timeout=300, env=env)
 
 
 def _check_the_cli_against(server: str, study_id: str, tmp_path: Path) -> None:
@@ -121,5 +129,7 @@ def _check_the_cli_against(server: str, study_id: str, tmp_path: Path) -> None:
     submitted = _cli("study", "submit", str(spec), "--server", server, "--watch", "--interval-s", "0.2")
     assert submitted.returncode == 0, submitted.stderr
     assert "2 items" in submitted.stdout and "2/2 finished, 0 failed" in submitted.stderr
+    refused = _cli("study", "watch", study_id, "--server", server, key=None)
+    assert refused.returncode == 2 and "HTTP 401" in refused.stderr
     missing = _cli("study", "watch", "0" * 32, "--server", server)
     assert missing.returncode == 2 and "HTTP 404" in missing.stderr
