@@ -40,6 +40,7 @@ class Settings(BaseSettings):
     DASK_SCHEDULER_ADDRESS: str = ""  # e.g. tcp://scheduler:8786; empty: an embedded local cluster
     DASK_WORKERS: int = 0  # embedded cluster's worker processes; 0: one per CPU
     MAX_STUDY_SPAN_DAYS: float = 7305.0  # a study item's span (20 years); its cost is bounded by MAX_NODES
+    STUDY_ITEM_DEADLINE_SECONDS: float = 1800.0  # one study item (background work); then a 504 problem
     MAX_STUDY_ITEMS: int = 20_000  # items one study may hold (a sweep's product is checked before expansion)
     MAX_QUEUED_STUDY_ITEMS: int = 200_000  # unfinished items of all studies; beyond: 429 + Retry-After
     STUDY_LEASE_SECONDS: float = 30.0  # a replica's claim on a running study; taken over after expiry

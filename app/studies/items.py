@@ -131,9 +131,12 @@ def _check_cost(req, settings: Settings, source) -> None:
 
 def item_settings(settings: Settings) -> Settings:
     """The settings a study item runs under: a mission-life span (MAX_STUDY_SPAN_DAYS) instead of the
-    interactive MAX_SPAN_DAYS; the item's cost stays bounded by MAX_NODES and the deadline."""
-    return settings.model_copy(update={"MAX_SPAN_DAYS": max(settings.MAX_SPAN_DAYS,
-                                                            settings.MAX_STUDY_SPAN_DAYS)})
+    interactive MAX_SPAN_DAYS, and the background deadline STUDY_ITEM_DEADLINE_SECONDS instead of a
+    request's; the item's cost stays bounded by MAX_NODES."""
+    return settings.model_copy(update={
+        "MAX_SPAN_DAYS": max(settings.MAX_SPAN_DAYS, settings.MAX_STUDY_SPAN_DAYS),
+        "COMPUTE_DEADLINE_SECONDS": settings.STUDY_ITEM_DEADLINE_SECONDS,
+    })
 
 
 @functools.lru_cache(maxsize=8)
@@ -179,4 +182,9 @@ def run_item(kind: str, defaults: dict, parameters: dict | None, payload: dict |
     source = None
     if kind == "budget" and payload is not None:
         source = _file_source(body.get("orbit"))
-    return run_request(kind, body, _settings(settings_json), source)
+    status, out = run_request(kind, body, _settings(settings_json), source)
+    if status == 504 and out.get("limit_name") == "COMPUTE_DEADLINE_SECONDS":  # name the study's setting
+        out = {**out, "limit_name": "STUDY_ITEM_DEADLINE_SECONDS",
+               "detail": out["detail"].replace("TAUBUDGET_COMPUTE_DEADLINE_SECONDS",
+                                               "TAUBUDGET_STUDY_ITEM_DEADLINE_SECONDS")}
+    return status, out

@@ -342,8 +342,9 @@ class Store:
 
     # --- reading results ---------------------------------------------------------------
 
-    def iter_results(self, study_id: str, page: int = 500) -> Iterator[ResultRow]:
-        """Finished items in index order, read a page at a time (memory stays flat)."""
+    def iter_results(self, study_id: str, page: int = 50) -> Iterator[ResultRow]:
+        """Finished items in index order, read a page at a time (memory stays flat: a page is small
+        because one result with a long series can be megabytes)."""
         last = -1
         while True:
             q = (select(items.c.item_index, items.c.item_id, items.c.parameters, results.c.status,

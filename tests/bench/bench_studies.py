@@ -150,10 +150,20 @@ def main() -> None:
     ap.add_argument("--items", type=int, default=1000)
     ap.add_argument("--satellites", type=int, default=24)
     ap.add_argument("--years", type=float, default=15.0)
+    ap.add_argument("--parts", default="123", help="which parts to run (e.g. 23)")
     args = ap.parse_args()
     data = Path(tempfile.mkdtemp(prefix="taubudget-bench-"))
     print(f"machine: {os.cpu_count()} CPUs, load average {os.getloadavg()[0]:.1f}")
 
+    if "1" in args.parts:
+        part1(args, data)
+    if "2" in args.parts:
+        part2(args, data)
+    if "3" in args.parts:
+        part3(args, data)
+
+
+def part1(args, data: Path) -> None:
     print(f"\n1. {args.items}-budget sweep (1 day each, J2..J4 + Sun + Moon), items/s:")
     rates = {}
     for workers in (1, 2):
@@ -170,6 +180,8 @@ def main() -> None:
     for name, r in rates.items():
         print(f"   {name:<30} {r:8.1f} items/s")
 
+
+def part2(args, data: Path) -> None:
     print(f"\n2. {args.satellites}-satellite x {args.years:g}-year study (embedded, 2 workers):")
     s = Settings(DATA_DIR=str(data / "constellation"), DASK_WORKERS=2)
     with TestClient(create_app(s)) as c:
@@ -186,6 +198,8 @@ def main() -> None:
     print(f"   peak RSS: server {rss.peak_server * mib:.0f} MiB; workers "
           + ", ".join(f"{w * mib:.0f} MiB" for w in workers))
 
+
+def part3(args, data: Path) -> None:
     n = min(args.items, 200)
     physics, whole = direct_per_item_s(n)
     s = Settings(DATA_DIR=str(data / "overhead"), DASK_WORKERS=1)
