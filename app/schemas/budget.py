@@ -68,7 +68,8 @@ class BudgetRequest(_Strict):
 class PeriodicOut(_Open):
     amplitude_ns: float = Field(
         description="The clock's own periodic part: half the peak-to-peak offset after the preset, "
-        "without the coordinate position term (BCRS budgets), ns; extremes refined between samples")
+        "without the coordinate position term and, for a clock that does not ride with the Earth "
+        "against TT, TAI, GPS or TCG, without TDB - TT (BCRS budgets), ns; extremes refined")
     peak_to_peak_ns: float
     dominant_period_s: float | None = Field(description="Period of the largest periodic component, s")
     position_term_amplitude_ns: float = Field(
