@@ -250,8 +250,10 @@
     const el = $("#plot-offset"), s = b.series;
     if (!s) { empty(el, "No series in this budget: give a series step to plot the offset."); return; }
     const x = s.time_utc.map(parseUtc);
-    const afterPreset = s.periodic_ns.map((v) => v - s.periodic_ns[0]); // the preset line through the sync at t = 0
-    const afterCorr = afterPreset.map((v, i) => v - s.eccentricity_term_ns[i]);
+    // After the preset: the periodic part referred to zero at the sync at t = 0 (the preset line passes
+    // through it); after the correction: less the change of the eccentricity term since then.
+    const afterPreset = s.periodic_ns.map((v) => v - s.periodic_ns[0]);
+    const afterCorr = afterPreset.map((v, i) => v - (s.eccentricity_term_ns[i] - s.eccentricity_term_ns[0]));
     plot("offset", el, { ...timeOpts([{}, yAxis("raw offset, ns"), yAxis("after preset / correction, ns", "res", 1)]),
       scales: { x: { time: true } },
       series: [{ label: "raw offset, ns" }, { label: "after preset, ns", scale: "res" },
