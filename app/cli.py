@@ -11,24 +11,36 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
+import textwrap
 
 from pydantic import ValidationError
 from taubudget.physics.errors import PhysicsInputError
 
+from .input_hints import hint, json_decimal_comma_hint
+
 
 def _load_json(path: str):
     if path == "-":
-        return json.load(sys.stdin)
-    with open(path, encoding="utf-8") as fh:
-        return json.load(fh)
+        text = sys.stdin.read()
+    else:
+        with open(path, encoding="utf-8") as fh:
+            text = fh.read()
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        comma = json_decimal_comma_hint(exc.doc, exc.pos)
+        if comma is None:
+            raise
+        raise json.JSONDecodeError(f"{exc.msg}; {comma}", exc.doc, exc.pos) from None
 
 
 def _fmt_validation(exc: ValidationError) -> str:
     lines = []
     for err in exc.errors():
         loc = ".".join(str(p) for p in err["loc"])
-        lines.append(f"  {loc or '(body)'}: {err['msg']}")
+        lines.append(f"  {loc or '(body)'}: {hint(err) or err['msg']}")
     return "invalid request:\n" + "\n".join(lines)
 
 
@@ -63,8 +75,8 @@ def render_table(b: dict) -> str:
     width = max(len(k) for k, _ in rows)
     out = [f"{k:<{width}}  {v}" for k, v in rows]
     out.append("")
-    out.append("terms (fractional):")
-    for name, val in b["terms_fractional"].items():
+    out.append("rate terms (fractional; --json also keeps the round-1 names in terms_fractional):")
+    for name, val in (b.get("rate_terms_fractional") or b["terms_fractional"]).items():
         out.append(f"  {name:<{width - 2}}  {val: .6e}")
     if b.get("frame") == "BCRS":
         out.append(f"frame: BCRS. {b.get('tt_convention', '')}")
@@ -115,37 +127,51 @@ def _clock_rows(ce: dict, width: int) -> list[str]:
         f"{k:<{w}}  {v}".rstrip() for k, v in rows]
 
 
-_STAT_COLUMNS = (("adev", "adev"), ("oadev", "oadev"), ("mdev", "mdev"), ("tdev_s", "tdev (s)"),
-                 ("hdev", "hdev"))
+_STAT_COLUMNS = (("mdev", "mdev"), ("tdev_s", "tdev (s)"), ("hdev", "hdev"))
+
+TERMINAL_WIDTH = 96
+"""Prose under the stability table is wrapped to this many columns (the table itself is 97)."""
 
 
 def render_stability(r: dict) -> str:
-    """A plain-text deviations table for a terminal."""
-    out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s; "
-           f"bounds at {r['confidence']:g} confidence; value [lower, upper] (terms)"]
+    """A plain-text deviations table for a terminal (under 100 columns)."""
+    out = [f"{r['n_samples']} {r['data_type']} samples at {r['sample_interval_s']:g} s"]
     out += _deviation_lines(r["deviations"])
     out.append("")
-    out.append(r["caution"])
+    notes = [f"noise: power-law type identified at each tau (lag-1 autocorrelation); bounds: OADEV at "
+             f"{r['confidence']:g} confidence. ADEV, OHDEV and every bound, term count and EDF: --json."]
+    if r.get("clock_block") is not None:
+        notes.append("clock block: --json gives 'clock_block' for a budget's clock "
+                     "(taubudget budget REQUEST --clock-from STABILITY_JSON).")
+    out += [textwrap.fill(n, TERMINAL_WIDTH, break_on_hyphens=False) for n in notes]
+    out += ["", textwrap.fill(r["caution"], TERMINAL_WIDTH)]
     return "\n".join(out)
 
 
+def _noise_name(row: dict) -> str:
+    from taubudget.physics.clock import NOISE_NAMES
+
+    if row.get("noise_type"):
+        return row["noise_type"]
+    alpha = row.get("noise_alpha")
+    return "-" if alpha is None else NOISE_NAMES.get(int(round(alpha)), "-")
+
+
 def _deviation_lines(rows: list[dict]) -> list[str]:
-    head = f"{'tau_s':>12}" + "".join(f"  {label:>40}" for _, label in _STAT_COLUMNS)
+    """tau, noise type, OADEV with its bounds, MDEV, TDEV, HDEV: 97 columns."""
+    head = (f"{'tau_s':>10}  {'noise':<14}  {'oadev':>10}  {'oadev bounds':<21}"
+            + "".join(f"  {label:>10}" for _, label in _STAT_COLUMNS))
     out = [head]
     for row in rows:
-        cells = [f"{row['tau_s']:>12.6g}"]
+        value, lo, hi = row["oadev"], row["oadev_lower"], row["oadev_upper"]
+        lo_t, hi_t = ("-" if b is None else f"{b:.3g}" for b in (lo, hi))
+        bounds = "" if value is None else f"[{lo_t}, {hi_t}]"
+        cells = [f"{row['tau_s']:>10.6g}  {_noise_name(row):<14}  "
+                 f"{'-' if value is None else f'{value:.4g}':>10}  {bounds:<21}"]
         for key, _ in _STAT_COLUMNS:
-            base = key.removesuffix("_s")
-            suffix = "_s" if key.endswith("_s") else ""
-            value, lo, hi = row[key], row[f"{base}_lower{suffix}"], row[f"{base}_upper{suffix}"]
-            n = row[f"{base}_n_terms"]
-            if value is None:
-                cells.append(f"  {'-':>40}")
-            else:
-                lo_t = "-" if lo is None else f"{lo:.4g}"
-                hi_t = "-" if hi is None else f"{hi:.4g}"
-                cells.append(f"  {f'{value:.5g} [{lo_t}, {hi_t}] ({n})':>40}")
-        out.append("".join(cells))
+            v = row[key]
+            cells.append(f"  {'-' if v is None else f'{v:.4g}':>10}")
+        out.append("".join(cells).rstrip())
     return out
 
 
@@ -254,18 +280,25 @@ def cmd_budget(args) -> int:
         body = _load_json(args.request)
         if args.orbit_file is not None:
             body = _with_orbit_file(body, args)
-        req = BudgetRequest.model_validate(body)
     except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
         print(f"cannot read {args.request}: {exc}", file=sys.stderr)
         return 2
     except FormatError as exc:
         print(f"invalid orbit file {args.orbit_file}: {exc}", file=sys.stderr)
         return 2
-    except ValidationError as exc:
-        print(_fmt_validation(exc), file=sys.stderr)
-        return 2
     except ValueError as exc:  # a request that is not an object, or an orbit that is not options
         print(f"invalid request: {exc}", file=sys.stderr)
+        return 2
+    if args.clock_from is not None:
+        try:
+            body = _with_clock_from(body, args.clock_from)
+        except ValueError as exc:
+            print(exc, file=sys.stderr)
+            return 2
+    try:
+        req = BudgetRequest.model_validate(body)
+    except ValidationError as exc:
+        print(_fmt_validation(exc), file=sys.stderr)
         return 2
     try:
         result = budget_from_request(req)
@@ -274,27 +307,74 @@ def cmd_budget(args) -> int:
     _plot(args.plot, "budget", result)
     if args.json:
         _print_json(result)
+    elif args.csv:
+        from .csv_format import budget_csv_text
+
+        sys.stdout.write(budget_csv_text(result))
     else:
         print(render_table(result))
     return 0
 
 
+def _with_clock_from(body, path: str) -> dict:
+    """The request with its clock noise taken from the stability result in ``path`` (its
+    ``clock_block``); ValueError with the message to print if the file cannot serve.
+
+    The request's own clock keys other than the noise (drift_per_day, initial offsets, f_h_hz)
+    are kept; preset, h_alpha and adev_points are replaced.
+    """
+    try:
+        stability = _load_json(path)
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise ValueError(f"cannot read {path}: {exc}") from None
+    if not isinstance(body, dict):
+        raise ValueError("invalid request: it is not a JSON object")
+    block = stability.get("clock_block") if isinstance(stability, dict) else None
+    if not isinstance(block, dict):
+        raise ValueError(f"invalid stability result {path}: it has no 'clock_block' (write it with "
+                         "'taubudget stability --json' or POST /v1/clock-stability)")
+    own = body.get("clock") or {}
+    if not isinstance(own, dict):
+        raise ValueError("invalid request: its 'clock' is not an object")
+    kept = {k: v for k, v in own.items() if k not in ("preset", "h_alpha", "adev_points")}
+    return {**body, "clock": {**block, **kept}}
+
+
+def _utc_seconds(iso: str) -> str:
+    """'2027-03-01T09:02:30.792643Z' -> '2027-03-01T09:02:30Z' (the table's resolution)."""
+    return iso.split(".")[0].rstrip("Z") + "Z"
+
+
 def render_contacts(plan: dict) -> str:
     """A plain-text summary of a contact plan."""
-    out = [f"{'station':<18} {'AOS (UTC)':<27} {'LOS (UTC)':<27} {'dur s':>7} {'max el':>7} "
-           f"{'offset AOS ns':>14} {'sync':>4}"]
+    k = plan["k_sigma"]
+    synced = f"{k:g}sig w/ syncs"
+    out = [f"{'station':<18} {'AOS (UTC)':<20} {'LOS (UTC)':<20} {'dur s':>6} {'max el':>6} "
+           f"{'free-run ns':>12} {synced:>14} {'sync':>4}"]
     for p in plan["passes"]:
-        out.append(f"{p['station']:<18} {p['aos_utc']:<27} {p['los_utc']:<27} {p['duration_s']:7.0f} "
-                   f"{p['max_elevation_deg']:7.2f} {p['offset_at_aos_ns']:14.3f} "
+        bound = p.get("bound_at_aos_with_syncs_ns")
+        bound_text = "" if bound is None else f"{bound:.3f}"
+        aos, los = _utc_seconds(p["aos_utc"]), _utc_seconds(p["los_utc"])
+        out.append(f"{p['station'][:18]:<18} {aos:<20} {los:<20} {p['duration_s']:6.0f} "
+                   f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} {bound_text:>14} "
                    f"{'yes' if p.get('used_for_sync') else '':>4}")
+    rec = plan.get("recommendation") or {}
     out += [
+        "",
+        "free-run ns: offset at AOS running free since the span start, ignoring every sync;",
+        f"{synced}: |time error| + {k:g} sigma at AOS with the plan's syncs applied.",
         "",
         f"syncs: {len(plan['syncs'])}   worst error: {plan['worst_error_ns']:.3f} ns   "
         f"worst gap: {plan['worst_gap_s']:.0f} s   budget {plan['time_error_budget_ns']:g} ns at "
-        f"{plan['k_sigma']:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
-        "",
-        plan["caution"],
+        f"{k:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
     ]
+    if rec.get("summary"):
+        out.append(f"recommendation: {rec['summary']}")
+    if plan["syncs"]:
+        worst = max(plan["syncs"], key=lambda s: s["bound_before_sync_ns"])
+        out.append(f"largest error just before a sync: {worst['bound_before_sync_ns']:.3f} ns "
+                   f"({k:g} sigma) at {_utc_seconds(worst['time_utc'])}, {worst['station']}")
+    out += ["", plan["caution"]]
     return "\n".join(out)
 
 
@@ -404,8 +484,18 @@ def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="taubudget", description="Relativistic clock drift budgets.")
     sub = p.add_subparsers(dest="verb", required=True)
     b = sub.add_parser("budget", help="compute a budget from a request JSON file ('-' for stdin)")
-    b.add_argument("request")
-    b.add_argument("--json", action="store_true", help="print the response JSON")
+    b.add_argument("request", metavar="REQUEST",
+                   help="budget request as JSON (the body of POST /v1/budgets; see sample_orbits/), "
+                   "a file path or '-' for stdin")
+    b_fmt = b.add_mutually_exclusive_group()
+    b_fmt.add_argument("--json", action="store_true", help="print the response JSON")
+    b_fmt.add_argument("--csv", action="store_true",
+                       help="print CSV: the summary (field,value rows), then the series when the "
+                       "request has series_step_s (as GET /v1/budgets.csv)")
+    b.add_argument("--clock-from", metavar="STABILITY_JSON", default=None,
+                   help="take the clock's noise from a stability result ('taubudget stability --json' "
+                   "or POST /v1/clock-stability); the request's clock block, if any, keeps its drift "
+                   "and offsets")
     b.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     b.add_argument("--orbit-file", default=None,
                    help="take the orbit from this file (OMM, OPM, OEM, SP3, TLE; type detected); the "
@@ -440,7 +530,9 @@ def build_parser() -> argparse.ArgumentParser:
     st.add_argument("--plot", metavar="FILE", type=_figure_path, help=_PLOT_HELP)
     st.set_defaults(func=cmd_stability)
     c = sub.add_parser("contacts", help="plan ground contacts and resynchronisation from a request JSON file")
-    c.add_argument("request")
+    c.add_argument("request", metavar="REQUEST",
+                   help="contact-plan request as JSON (the body of POST /v1/contact-plans; see "
+                   "sample_orbits/contact_plan_*.json), a file path or '-' for stdin")
     fmt = c.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print the response JSON")
     fmt.add_argument("--csv", action="store_true", help="print the pass table as CSV")
@@ -452,12 +544,28 @@ def build_parser() -> argparse.ArgumentParser:
     sv.add_argument("--workers", type=int, default=1)
     sv.add_argument("--log-level", default="info")
     sv.set_defaults(func=cmd_serve)
+    from .study_cli import add_parsers as add_study_parsers
+
+    add_study_parsers(sub)  # study submit|watch|results|list|cancel, batch
     return p
+
+
+SIGPIPE_EXIT_STATUS = 128 + 13
+"""Exit status of a Unix tool stopped by SIGPIPE (128 + signal 13), e.g. under '| head'."""
 
 
 def main(argv: list[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
-    return args.func(args)
+    try:
+        status = args.func(args)
+        sys.stdout.flush()
+        return status
+    except BrokenPipeError:
+        # The reader closed the pipe (e.g. '| head'): stop quietly, as Unix tools do. Point stdout at
+        # devnull so the interpreter's final flush does not raise again.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return SIGPIPE_EXIT_STATUS
 
 
 if __name__ == "__main__":  # pragma: no cover

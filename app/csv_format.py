@@ -1,8 +1,10 @@
 """Budgets as CSV (RFC 4180) and as single numbers for spreadsheet cells.
 
-Layout: comment lines starting with ``#`` (the caution text, the reference and
-the span), then either a ``field,value`` summary block or, when the request has
-``series_step_s``, one row per output time. Floats are written with ``repr``:
+Layout (every line readable by a CSV reader; no comment lines): a ``field,value``
+block (description and caution first, then the summary figures); when the request
+has ``series_step_s``, an empty row and the series table (one row per output time)
+follow. Contact plans: the same field,value block, an empty row, the pass table.
+Floats are written with ``repr``:
 the shortest text that reads back to the same double, in scientific notation
 for tiny fractional values (``4.4646999955239707e-10``).
 """
@@ -17,11 +19,13 @@ from taubudget.physics.rate import TERM_NAMES
 from taubudget.physics.rate_bcrs import BCRS_TERM_NAMES
 
 from .csv_safety import plain_text, safe_text
+from .present.terms import RATE_TERM_TRADE_NAMES
 
 SUMMARY_FIELDS: tuple[str, ...] = (
     "mean_fractional_rate",
     "mean_rate_us_per_day",
     *(f"terms_fractional.{name}" for name in TERM_NAMES),
+    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES.get(name, name)}" for name in TERM_NAMES),
     "frequency_preset_fractional",
     "preset_frequency_hz",
     "nominal_frequency_hz",
@@ -73,6 +77,8 @@ CLOCK_SUMMARY_FIELDS: tuple[str, ...] = (
 
 BCRS_SUMMARY_FIELDS: tuple[str, ...] = (
     *(f"terms_fractional.{name}" for name in BCRS_TERM_NAMES if name != "velocity"),
+    *(f"rate_terms_fractional.{RATE_TERM_TRADE_NAMES.get(name, name)}" for name in BCRS_TERM_NAMES
+      if name not in ("velocity", "time_scale")),
     "tt_convention",
     "position_term.amplitude_ns",
 )
@@ -116,45 +122,50 @@ def summary_rows(budget: dict) -> list[tuple[str, Any]]:
     return rows
 
 
-def _header(budget: dict) -> list[str]:
-    ref = format_value(budget.get("reference"))
-    return [
-        "# taubudget drift budget; offsets are clock minus reference",
-        f"# caution: {budget['caution']}",
-        f"# reference: {ref}",
-        f"# span: {budget['start_utc']} .. {budget['end_utc']} ({format_value(budget['span_s'])} s TT)",
-        f"# mean_rate_us_per_day: {format_value(budget['mean_rate_us_per_day'])}",
-        f"# mean_fractional_rate: {format_value(budget['mean_fractional_rate'])}",
-    ]
+BUDGET_DESCRIPTION = "taubudget drift budget; offsets are clock minus reference"
 
 
-def _render(header: list[str], rows: list[list[str]]) -> str:
+def _metadata_rows(budget: dict) -> list[list[str]]:
+    """What the '#' lines used to say, as field,value rows a CSV reader keeps (caution included)."""
+    return [["description", BUDGET_DESCRIPTION], ["caution", budget["caution"]]]
+
+
+def _render(header: list[list[str]], rows: list[list[str]], table: list[list[str]] | None = None) -> str:
+    """RFC 4180 text: ``header`` + ``rows`` as one field,value block; then, if given, an empty row
+    and ``table`` (its own header row first). Every cell goes through the formula-injection guard."""
     buf = io.StringIO()
-    for line in header:
-        buf.write(line + _LINE)
     writer = csv.writer(buf, lineterminator=_LINE)
-    writer.writerows([safe_text(cell) for cell in row] for row in rows)  # formula injection
+    writer.writerows([safe_text(cell) for cell in row] for row in header + rows)
+    if table is not None:
+        writer.writerow([])
+        writer.writerows([safe_text(cell) for cell in row] for row in table)
     return buf.getvalue()
 
 
 def summary_csv(budget: dict) -> str:
-    """The summary block: ``field,value`` rows after the comment header."""
-    rows = [["field", "value"]] + [[k, format_value(v)] for k, v in summary_rows(budget)]
-    return _render(_header(budget), rows)
+    """The summary block: ``field,value`` rows, the description and caution first."""
+    rows = [[k, format_value(v)] for k, v in summary_rows(budget)]
+    return _render([["field", "value"]] + _metadata_rows(budget), rows)
 
 
 def series_csv(budget: dict) -> str:
-    """One row per output time (needs a budget computed with ``series_step_s``)."""
+    """The summary block, an empty row, then one row per output time (needs ``series_step_s``)."""
     series = budget["series"]
-    rows = [list(SERIES_COLUMNS)]
+    table = [list(SERIES_COLUMNS)]
     columns = [series[c] for c in SERIES_COLUMNS]
     clock_series = (budget.get("clock_error") or {}).get("series")
     if clock_series is not None:
-        rows[0] += [f"clock_{c}" for c in CLOCK_SERIES_COLUMNS]
+        table[0] += [f"clock_{c}" for c in CLOCK_SERIES_COLUMNS]
         columns += [clock_series[c] for c in CLOCK_SERIES_COLUMNS]
     for values in zip(*columns, strict=True):
-        rows.append([format_value(v) for v in values])
-    return _render(_header(budget), rows)
+        table.append([format_value(v) for v in values])
+    rows = [[k, format_value(v)] for k, v in summary_rows(budget)]
+    return _render([["field", "value"]] + _metadata_rows(budget), rows, table)
+
+
+def budget_csv_text(budget: dict) -> str:
+    """The budget as CSV: the series table when the budget has one, else the summary block."""
+    return series_csv(budget) if budget.get("series") is not None else summary_csv(budget)
 
 
 def field_text(budget: dict, name: str) -> str:
@@ -172,20 +183,28 @@ def field_text(budget: dict, name: str) -> str:
 
 PASS_COLUMNS = (
     "station", "aos_utc", "los_utc", "culmination_utc", "duration_s", "max_elevation_deg",
-    "offset_at_aos_ns", "offset_at_los_ns", "light_time_us", "sagnac_correction_ns",
-    "fractional_frequency_shift", "used_for_sync",
+    "offset_at_aos_ns", "offset_at_los_ns", "error_at_aos_with_syncs_ns", "bound_at_aos_with_syncs_ns",
+    "light_time_us", "sagnac_correction_ns", "fractional_frequency_shift", "used_for_sync",
 )
+
+PLAN_SUMMARY_FIELDS = ("start_utc", "end_utc", "span_s", "meets_budget", "worst_error_ns",
+                       "worst_error_time_utc", "worst_gap_s", "time_error_budget_ns", "k_sigma")
 
 
 def passes_csv(plan: dict) -> str:
-    """The pass table of a contact plan as CSV (RFC 4180), after '#' comment lines with the caution."""
-    header = [
-        "# taubudget contact plan; offsets are clock minus reference, free-running since the span start",
-        f"# caution: {plan['caution']}",
-        f"# span: {plan['start_utc']} .. {plan['end_utc']}",
-        f"# meets_budget: {format_value(plan['meets_budget'])}; "
-        f"worst_error_ns: {format_value(plan['worst_error_ns'])}; "
-        f"worst_gap_s: {format_value(plan['worst_gap_s'])}",
+    """A contact plan as CSV (RFC 4180): a field,value block (description, caution, the plan's
+    figures, the recommendation in words, what the offset columns mean), an empty row, the passes."""
+    rec = plan.get("recommendation") or {}
+    head = [["field", "value"],
+            ["description", "taubudget contact plan; offsets are clock minus reference"],
+            ["caution", plan["caution"]]]
+    rows = [[k, format_value(plan[k])] for k in PLAN_SUMMARY_FIELDS if k in plan]
+    rows += [
+        ["recommendation", rec.get("summary", "")],
+        ["max_time_between_syncs_s", format_value(rec.get("max_time_between_syncs_s"))],
+        ["largest_pass_stride_meeting_budget", format_value(rec.get("largest_pass_stride_meeting_budget"))],
+        ["offset_at_aos_ns", "free-running offset since the span start, ignoring syncs (so is _los_)"],
+        ["bound_at_aos_with_syncs_ns", "|error| + k_sigma x 1-sigma at AOS with the plan's syncs applied"],
     ]
-    rows = [list(PASS_COLUMNS)] + [[format_value(p[c]) for c in PASS_COLUMNS] for p in plan["passes"]]
-    return _render(header, rows)
+    table = [list(PASS_COLUMNS)] + [[format_value(p.get(c)) for c in PASS_COLUMNS] for p in plan["passes"]]
+    return _render(head, rows, table)

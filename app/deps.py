@@ -7,6 +7,7 @@ from typing import Annotated, Any
 
 from fastapi import Depends, Request
 
+from .input_hints import json_decimal_comma_hint
 from .problems import TYPE_MALFORMED_BODY, TYPE_TOO_LARGE, ProblemError
 from .settings import Settings
 
@@ -78,9 +79,10 @@ def parse_json(raw: bytes) -> Any:
                            f"byte {exc.start}.", TYPE_MALFORMED_BODY,
                            [{"pointer": "", "detail": "not UTF-8"}]) from exc
     except json.JSONDecodeError as exc:
+        comma = json_decimal_comma_hint(exc.doc, exc.pos)
         raise ProblemError(400, "Malformed JSON", f"The body is not valid JSON: {exc.msg} at line "
-                           f"{exc.lineno}, column {exc.colno}.", TYPE_MALFORMED_BODY,
-                           [{"pointer": "", "detail": exc.msg}]) from exc
+                           f"{exc.lineno}, column {exc.colno}" + (f"; {comma}." if comma else "."),
+                           TYPE_MALFORMED_BODY, [{"pointer": "", "detail": comma or exc.msg}]) from exc
     except ValueError as exc:
         raise ProblemError(400, "Malformed JSON", f"The body is not valid JSON: {exc}.",
                            TYPE_MALFORMED_BODY, [{"pointer": "", "detail": str(exc)}]) from exc

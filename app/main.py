@@ -20,9 +20,11 @@ from taubudget.physics.ephemeris import ephemeris, timescale
 
 from . import problems, schemas
 from .access import install_access_control, log_startup
-from .api import budgets, clock, contacts, figures, health, page, reference
+from .api import budgets, clock, contacts, figures, health, page, reference, studies
 from .deps import BodyTooLarge
 from .settings import Settings, get_settings
+from .studies import runtime as studies_runtime
+from .studies.expand import StudyRequest
 
 DESCRIPTION = f"""Relativistic clock-offset budgets for satellites and ground clocks.
 
@@ -48,6 +50,7 @@ _DOCUMENTED = [
     (schemas.StabilityResponse, "serialization"),
     (schemas.ContactPlanRequest, "validation"),
     (schemas.ContactPlanResponse, "serialization"),
+    (StudyRequest, "validation"),
 ]
 
 
@@ -114,7 +117,8 @@ async def lifespan(app: FastAPI):
     log_startup(app.state.settings)
     await run_in_threadpool(_load_data, app)
     _quiet_collector()
-    yield
+    async with studies_runtime.lifespan(app):
+        yield
 
 
 def _openapi(app: FastAPI):
@@ -148,6 +152,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(contacts.router)
     app.include_router(reference.router)
     app.include_router(health.router)
+    app.include_router(studies.router)
     page.install(app)
     app.openapi = _openapi(app)
     return app

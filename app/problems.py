@@ -31,6 +31,8 @@ from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 from taubudget.physics.errors import PhysicsInputError
 
+from .input_hints import hint
+
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 
 _TYPE_BASE = "urn:taubudget:problem:"
@@ -142,6 +144,9 @@ def _message(err: dict) -> str:
         return "unknown field; it is not part of the request schema (check its spelling and units)"
     if err.get("type") == "missing":
         return "required field is missing"
+    hinted = hint(err)
+    if hinted is not None:
+        return hinted
     # model_validator messages arrive as "Value error, <our text>".
     return msg.removeprefix("Value error, ")
 

@@ -37,6 +37,17 @@ class Settings(BaseSettings):
     HEADER_TIMEOUT_SECONDS: float = 10.0
     KEEP_ALIVE_SECONDS: int = 5
     MAX_HEADER_BYTES: int = 16_384
+    # Studies (app/studies/): durable jobs on Dask. DATABASE_URL empty: SQLite in DATA_DIR.
+    DATA_DIR: str = ""  # empty: $XDG_DATA_HOME/taubudget (~/.local/share/taubudget)
+    DATABASE_URL: str = ""  # e.g. postgresql+psycopg://user:pw@host/db; empty: sqlite in DATA_DIR
+    DASK_SCHEDULER_ADDRESS: str = ""  # e.g. tcp://scheduler:8786; empty: an embedded local cluster
+    DASK_WORKERS: int = 0  # embedded cluster's worker processes; 0: one per CPU
+    MAX_STUDY_SPAN_DAYS: float = 7305.0  # a study item's span (20 years); its cost is bounded by MAX_NODES
+    STUDY_ITEM_DEADLINE_SECONDS: float = 1800.0  # one study item (background work); then a 504 problem
+    MAX_STUDY_ITEMS: int = 20_000  # items one study may hold (a sweep's product is checked before expansion)
+    MAX_QUEUED_STUDY_ITEMS: int = 200_000  # unfinished items of all studies; beyond: 429 + Retry-After
+    STUDY_LEASE_SECONDS: float = 30.0  # a replica's claim on a running study; taken over after expiry
+    STUDY_RETRY_AFTER_SECONDS: int = 60  # Retry-After of a 429/503 from the studies routes
     DEFAULT_HOST: str = "127.0.0.1"
     DEFAULT_PORT: int = 8000
 

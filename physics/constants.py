@@ -260,3 +260,11 @@ GEOID_UNDULATION_MAX_M = 107.0
 
 NOMINAL_GRAVITY_M_PER_S2 = 9.81
 """Surface gravity to turn a height into a potential, m/s^2 (common practice)."""
+
+# --- Orbits the atmosphere allows ---------------------------------------------------
+
+MIN_ORBIT_PERIGEE_ALTITUDE_M = 100_000.0
+"""Lowest perigee altitude above the equatorial radius accepted for an orbiting clock, m: the
+100 km line that the FAI (Federation Aeronautique Internationale) uses as the boundary of space.
+Below it the air is dense enough that a satellite re-enters within its first revolutions, so a
+drag-free orbit there is meaningless (the threshold itself is a convention; common practice)."""

@@ -39,13 +39,14 @@ from ..schemas import (
 )
 from ..schemas.orbits import Orbit
 from ..services.budget import budget_from_request, merge_item, orbit_source, planned_cost_of
+from ..studies import table as study_table
 from . import openapi_doc as doc
 from . import uploads
 from .query import BudgetQuery, QueryConflict, to_request, with_parameters
 
 router = APIRouter(prefix="/v1", tags=["budgets"])
-ORBIT_ADAPTER = TypeAdapter(Orbit)
 log = logging.getLogger("taubudget.batch")
+ORBIT_ADAPTER = TypeAdapter(Orbit)
 
 
 def _validate(body: Any) -> BudgetRequest:
@@ -169,7 +170,35 @@ def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
     }),
 )
 async def create_batch(request: Request, settings: SettingsDep, compute: ComputeDep):
-    """Compute one budget per item; a bad item gets its own problem and the others still run."""
+    """Compute one budget per item; a bad item gets its own problem and the others still run.
+    With ``Accept: text/csv``: one CSV row per item (as /v1/budgets/batch.csv)."""
+    result = await _batch(request, settings, compute)
+    if "text/csv" in request.headers.get("accept", ""):
+        return _batch_csv(result)
+    return await json_response(result)
+
+
+@router.post(
+    "/budgets/batch.csv",
+    summary="Budgets for many clocks, one CSV row per item",
+    response_class=Response,
+    responses={200: {"description": "CSV: id, status, headline figures, problem; caution in the '#' header",
+                     "content": {"text/csv": {}}}, **doc.problem_responses((400, 413, 422))},
+    openapi_extra=doc.batch_body({
+        "two_satellites": ("Two navigation satellites sharing defaults", EXAMPLE_BATCH_REQUEST),
+    }),
+)
+async def create_batch_csv(request: Request, settings: SettingsDep, compute: ComputeDep):
+    """The same batch as /v1/budgets/batch, answered as a trade table (one row per item)."""
+    return _batch_csv(await _batch(request, settings, compute))
+
+
+def _batch_csv(result: dict) -> Response:
+    return Response(study_table.batch_csv(result), media_type="text/csv; charset=utf-8",
+                    headers={"Content-Disposition": 'inline; filename="batch.csv"'})
+
+
+async def _batch(request: Request, settings, compute) -> dict:
     if uploads.is_multipart(request):
         up = await uploads.read_upload(request, ("request", "defaults"))
         payload = uploads.json_document(up, "items")
@@ -262,7 +291,7 @@ def _batch_too_large(detail: str, item_detail: str, limit_name: str, limit: int,
 
 
 async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings,
-                     compute, strict: bool = True) -> JSONResponse:
+                     compute, strict: bool = True) -> dict:
     """Validate and estimate every item up front, then compute; ``entries``: (item, orbit, source),
     where orbit and source are given for the objects of an uploaded file (parsed once).
     ``strict``: JSON types (a JSON batch) or text converted (form fields of an upload)."""
@@ -301,8 +330,8 @@ async def _run_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settin
                                             [{"pointer": f"/items/{i}", "detail": "internal error"}])
             results[i]["status"] = 500
     ok = sum(1 for r in results if r["status"] == 200)
-    return await json_response({"items": results, "succeeded": ok, "failed": len(results) - ok,
-                         "estimated_nodes": total_nodes, "caution": CAUTION})
+    return {"items": results, "succeeded": ok, "failed": len(results) - ok,
+            "estimated_nodes": total_nodes, "caution": CAUTION}
 
 
 # --- CSV and single numbers for spreadsheets ---------------------------------------------

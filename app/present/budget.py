@@ -13,6 +13,8 @@ from taubudget.physics.budget import CAUTION, BudgetResult, OmittedTerm
 from taubudget.physics.constants import SECONDS_PER_DAY
 from taubudget.physics.span import Span
 
+from .terms import rate_terms
+
 NS_PER_S = 1e9
 US_PER_S = 1e6
 PS_PER_S = 1e12
@@ -95,6 +97,7 @@ def budget(b: BudgetResult, reference) -> dict:
         "mean_fractional_rate": b.mean_fractional_rate,
         "mean_rate_us_per_day": us_per_day(b.mean_fractional_rate),
         "terms_fractional": dict(b.terms_fractional),
+        "rate_terms_fractional": rate_terms(b.terms_fractional),
         "frequency_preset_fractional": b.preset.fractional,
         "preset_frequency_hz": b.preset.frequency_hz,
         "nominal_frequency_hz": b.preset.nominal_frequency_hz,

@@ -8,6 +8,7 @@ import math
 import numpy as np
 
 from .budget import ns, ns_list, utc
+from .terms import RELATIVISTIC_OFFSET_WORDS
 
 PRESET_LABEL = "typical values, replace with your unit's data"
 
@@ -86,6 +87,7 @@ def clock_error(req, model, span, residual_name: str, end, free, exceedance_bloc
     out = {
         "elapsed_s": span.duration_s,
         "relativistic_residual": residual_name,
+        "relativistic_residual_description": RELATIVISTIC_OFFSET_WORDS[residual_name],
         "relativistic_residual_ns": ns(end.relativistic_residual_s[0]),
         "initial_time_offset_ns": ns(end.initial_time_offset_s[0]),
         "initial_frequency_ns": ns(end.initial_frequency_s[0]),

@@ -7,6 +7,7 @@ import numpy as np
 from taubudget.physics.budget import CAUTION
 
 from .budget import PS_PER_S, US_PER_S, ns, ns_list, request_reference, us_per_day, utc, utc1
+from .terms import RELATIVISTIC_OFFSET_WORDS
 
 SIGNAL_POINTS = ("aos", "culmination", "los")
 
@@ -57,10 +58,36 @@ def signal_points(path, span) -> dict:
     }
 
 
+def _hours(t_s: float) -> str:
+    return f"{t_s / 3600.0:.3g} h"
+
+
+def _ordinal(n: int) -> str:
+    suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
+    return f"{n}{suffix}"
+
+
+def recommendation_text(greedy, stride, k_sigma: float, budget_ns: float, span_s: float,
+                        first_violation_utc: str | None) -> str:
+    """The recommendation in words: how often to sync to keep the k-sigma envelope within budget."""
+    keep = f"to keep {k_sigma:g}-sigma within {budget_ns:g} ns"
+    if greedy.shortest_time_to_violation_s is None:
+        return f"no sync needed within the {_hours(span_s)} span {keep}"
+    if not greedy.feasible:
+        return (f"the eligible contacts cannot keep {k_sigma:g}-sigma within {budget_ns:g} ns: the envelope "
+                f"first exceeds it at {first_violation_utc} with no contact before it; sync at least every "
+                f"{_hours(greedy.shortest_time_to_violation_s)} (add stations or relax the policy)")
+    every = f"sync at least every {_hours(greedy.shortest_time_to_violation_s)}"
+    if stride is not None:
+        every += " / every pass" if stride == 1 else f" / every {_ordinal(stride)} eligible pass"
+    return f"{every} {keep} ({len(greedy.candidate_indices)} syncs at the fewest)"
+
+
 def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_t_s, sim, cand_idx, greedy,
-                 stride, budget, clock) -> dict:
+                 stride, budget, clock, with_syncs_at_aos=None, candidate_times_s=None) -> dict:
     """The response: ``paths`` maps a pass index to its SignalPath; ``sim``/``greedy``/``stride`` are
-    physics.contacts' sync simulation, greedy plan and largest stride; ``budget`` the BudgetResult."""
+    physics.contacts' sync simulation, greedy plan and largest stride; ``budget`` the BudgetResult;
+    ``with_syncs_at_aos``: (deterministic, sigma, bound) at each AOS under the request's syncs."""
     used = set(sync_idx)
     pass_rows = []
     for i, p in enumerate(passes):
@@ -78,6 +105,9 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
             "used_for_sync": i in used,
             "signal_path": sp,
         })
+        if with_syncs_at_aos is not None:
+            pass_rows[-1]["error_at_aos_with_syncs_ns"] = ns(with_syncs_at_aos[0][i])
+            pass_rows[-1]["bound_at_aos_with_syncs_ns"] = ns(with_syncs_at_aos[2][i])
     order = np.argsort(sync_t_s, kind="stable")
     sync_rows, prev = [], 0.0
     for pos, j in enumerate(order):
@@ -92,6 +122,7 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
         })
         prev = t
     greedy_passes = [cand_idx[c] for c in greedy.candidate_indices]
+    first_violation = None if greedy.first_violation_s is None else utc1(span, greedy.first_violation_s)
     return {
         "passes": pass_rows,
         "syncs": sync_rows,
@@ -108,10 +139,12 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
             "sync_count": len(greedy_passes),
             "sync_times_utc": utc(span, greedy.sync_times_s) if len(greedy_passes) else [],
             "pass_indices": greedy_passes,
-            "first_violation_utc": None if greedy.first_violation_s is None
-            else utc1(span, greedy.first_violation_s),
+            "first_violation_utc": first_violation,
             "largest_pass_stride_meeting_budget": stride,
             "stride_note": "every Nth eligible pass in time order, N = 1.. tried in turn",
+            "max_time_between_syncs_s": greedy.shortest_time_to_violation_s,
+            "summary": recommendation_text(greedy, stride, req.k_sigma, req.time_error_budget_ns,
+                                           span.duration_s, first_violation),
         },
         "budget": {
             "mean_fractional_rate": budget.mean_fractional_rate,
@@ -121,6 +154,7 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
         },
         "model": {
             "relativistic_offset": req.relativistic_offset,
+            "relativistic_offset_description": RELATIVISTIC_OFFSET_WORDS[req.relativistic_offset],
             "clock": clock.name,
             "clock_h_alpha": {str(a): float(h) for a, h in clock.h_alpha.items()},
             "clock_drift_per_day": clock.drift_per_day,

@@ -114,9 +114,11 @@ def _offset(ax, b: dict) -> None:
     s = _needs_series(b, "offset")
     t = _days(s["elapsed_s"])
     # After the preset: the periodic part referred to zero at the sync at the span start (the
-    # preset line passes through it); after correction: minus the eccentricity term as well.
+    # preset line passes through it); after correction: less the change of the (absolute)
+    # eccentricity term since then, as physics' after_correction_s.
     after_preset = np.asarray(s["periodic_ns"]) - s["periodic_ns"][0]
-    after_correction = after_preset - np.asarray(s["eccentricity_term_ns"])
+    ecc = np.asarray(s["eccentricity_term_ns"])
+    after_correction = after_preset - (ecc - ecc[0])
     raw = _line(ax, t, s["offset_ns"], "raw-offset", label="raw offset (left axis)")
     ax.set_ylabel("raw offset, ns")
     ax.set_xlabel(_time_label(b))

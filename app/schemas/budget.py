@@ -13,6 +13,7 @@ from pydantic import Field, model_validator
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
 from ..model_base import UtcDateTime
+from ..present.terms import RATE_TERM_DESCRIPTIONS
 from .clock import ClockErrorOut, ClockIn
 from .orbits import GravityIn, Orbit, SurfaceClockIn
 from .problems import Problem
@@ -68,7 +69,8 @@ class BudgetRequest(_Strict):
 class PeriodicOut(_Open):
     amplitude_ns: float = Field(
         description="The clock's own periodic part: half the peak-to-peak offset after the preset, "
-        "without the coordinate position term (BCRS budgets), ns; extremes refined between samples")
+        "without the coordinate position term and, for a clock that does not ride with the Earth "
+        "against TT, TAI, GPS or TCG, without TDB - TT (BCRS budgets), ns; extremes refined")
     peak_to_peak_ns: float
     dominant_period_s: float | None = Field(description="Period of the largest periodic component, s")
     position_term_amplitude_ns: float = Field(
@@ -116,7 +118,14 @@ class BudgetResponse(_Open):
     mean_fractional_rate: float = Field(
         description="Mean rate against the reference, s/s (positive: the clock gains)")
     mean_rate_us_per_day: float
-    terms_fractional: dict[str, float]
+    terms_fractional: dict[str, float] = Field(
+        description="Share of each rate term, fractional, under the round-1 names (kept for one "
+        "version; deprecated): monopole = earth_monopole, zonal = earth_zonal, tidal = sun_moon_tidal, "
+        "reference_scale (GCRS) and time_scale (BCRS) = time_scale_rate, reference_clock = "
+        "ground_reference_clock; see rate_terms_fractional")
+    rate_terms_fractional: dict[str, float] | None = Field(
+        None, description="The same terms under the trade's names: " + "; ".join(
+            f"{k}: {v}" for k, v in RATE_TERM_DESCRIPTIONS.items()))
     frequency_preset_fractional: float = Field(
         description="Fractional frequency offset that nulls the mean rate")
     preset_frequency_hz: float | None

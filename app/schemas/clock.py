@@ -81,7 +81,12 @@ class ClockErrorOut(_Open):
     """Time error of the clock after a sync at the span start (clock minus reference), at the span end."""
 
     elapsed_s: float = Field(description="Time since the sync at which the figures apply (span end), s")
-    relativistic_residual: Literal["after_correction", "after_preset"]
+    relativistic_residual: Literal["after_correction", "after_preset"] = Field(
+        description="Which relativistic offset the clock carries (round-1 names, kept): after_preset = "
+        "after the frequency offset (preset); after_correction = also after the user's eccentricity "
+        "correction; see relativistic_residual_description")
+    relativistic_residual_description: str | None = Field(
+        None, description="relativistic_residual in the trade's words")
     relativistic_residual_ns: float
     initial_time_offset_ns: float
     initial_frequency_ns: float

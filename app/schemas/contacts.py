@@ -4,12 +4,14 @@ contract: add fields, never rename or drop one. Offsets are clock minus referenc
 
 from __future__ import annotations
 
+import json
 from typing import Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
+from ..present.terms import RELATIVISTIC_OFFSET_ALIASES
 from .budget import BudgetRequest
 from .clock import ClockIn
 
@@ -57,21 +59,65 @@ class SyncPolicyIn(_Strict):
         return self
 
 
+def station_networks() -> dict[str, list[dict]]:
+    """The ground networks shipped with the package, by file stem (``app/networks/*.json``)."""
+    from importlib.resources import files
+
+    out = {}
+    for entry in files("taubudget.app").joinpath("networks").iterdir():
+        if entry.name.endswith(".json"):
+            out[entry.name.removesuffix(".json")] = json.loads(entry.read_text(encoding="utf-8"))["stations"]
+    return out
+
+
+STATION_FILES = tuple(sorted(station_networks()))
+"""Names a request may give in ``stations_file`` (a packaged network; never a path)."""
+
+
 class ContactPlanRequest(BudgetRequest):
     """A budget request plus ground stations, a sync policy and a time-error budget."""
 
-    stations: list[StationIn] = Field(min_length=1, max_length=MAX_STATIONS)
+    stations: list[StationIn] = Field(
+        default_factory=list, max_length=MAX_STATIONS,
+        description="Ground stations; may be left out when stations_file names a network")
+    stations_file: Literal[STATION_FILES] | None = Field(  # type: ignore[valid-type]
+        None, description="A ground network shipped with the service, by name (e.g. 'ground_network', "
+        "the four invented stations of sample_orbits/ground_network.json); its stations come first, "
+        "then any in 'stations'. A name, never a path: the server opens no user-given file")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _fold_in_station_file(cls, data):
+        if isinstance(data, dict) and isinstance(data.get("stations_file"), str):
+            network = station_networks().get(data["stations_file"])
+            if network is not None:
+                return {**data, "stations": [*network, *(data.get("stations") or [])]}
+        return data
     sync_policy: SyncPolicyIn = Field(default_factory=SyncPolicyIn)
     clock: ClockIn | None = Field(None, description="Oscillator model (the budget's clock block); "
                                   "none: relativity only")
     time_error_budget_ns: float = Field(gt=0, description="Allowed |time error| of the k-sigma envelope, ns")
     k_sigma: float = Field(3.0, ge=0, le=10, description="Multiplier of the 1-sigma stochastic error")
-    relativistic_offset: Literal["after_preset", "after_correction", "raw"] = Field(
-        "after_preset", description="Which relativistic offset the clock carries: after the frequency preset "
-        "(default), also after the user-segment eccentricity correction, or with no preset")
+    relativistic_offset: Literal[
+        "frequency_offset", "frequency_offset_and_eccentricity_correction", "uncorrected",
+        "after_preset", "after_correction", "raw",
+    ] = Field(
+        "after_preset", description="Which relativistic offset the clock carries: 'frequency_offset' "
+        "(default; the factory frequency offset, or preset, removes the mean rate), "
+        "'frequency_offset_and_eccentricity_correction' (the user segment also removes -(2/c^2) r.v), "
+        "'uncorrected' (no preset). The round-1 names after_preset, after_correction and raw are "
+        "accepted for one version and are what the response repeats")
+
+    @field_validator("relativistic_offset")
+    @classmethod
+    def _old_offset_name(cls, value: str) -> str:
+        # One spelling inside: the round-1 name, which the response's model block repeats.
+        return RELATIVISTIC_OFFSET_ALIASES.get(value, value)
 
     @model_validator(mode="after")
     def _unique_names(self):
+        if not self.stations:
+            raise ValueError("give 'stations' or a 'stations_file' (known: " + ", ".join(STATION_FILES) + ")")
         names = [s.name for s in self.stations]
         if len(set(names)) != len(names):
             raise ValueError("station names must be unique")
@@ -103,8 +149,14 @@ class PassOut(_Open):
     culmination_utc: str
     duration_s: float
     max_elevation_deg: float
-    offset_at_aos_ns: float = Field(description="Free-running offset since the span start (no syncs), ns")
-    offset_at_los_ns: float
+    offset_at_aos_ns: float = Field(
+        description="Free-running offset since the span start, ignoring every sync (relativistic part "
+        "plus the clock's deterministic part), ns; see error_at_aos_with_syncs_ns for the plan's error")
+    offset_at_los_ns: float = Field(description="Free-running offset at LOS, ignoring every sync, ns")
+    error_at_aos_with_syncs_ns: float | None = Field(
+        None, description="Deterministic time error at AOS with the request's syncs applied, ns")
+    bound_at_aos_with_syncs_ns: float | None = Field(
+        None, description="|error_at_aos_with_syncs_ns| + k_sigma x 1-sigma at AOS, syncs applied, ns")
     light_time_us: float = Field(description="At culmination")
     sagnac_correction_ns: float = Field(description="At culmination")
     fractional_frequency_shift: float = Field(description="At culmination")
@@ -145,7 +197,10 @@ class ContactPlanResponse(_Open):
     meets_budget: bool
     time_error_budget_ns: float
     k_sigma: float
-    recommendation: dict
+    recommendation: dict = Field(
+        description="Fewest syncs (greedy), the largest pass stride meeting the budget, "
+        "max_time_between_syncs_s and a summary in words ('sync at least every N h / every k-th pass "
+        "to keep 3-sigma within X ns')")
     budget: dict
     model: dict
     caution: str

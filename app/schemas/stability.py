@@ -24,7 +24,11 @@ class StabilityRequest(_Strict):
 class StabilityResponse(_Open):
     deviations: list[dict] = Field(
         description="One row per tau: tau_s; adev, oadev, mdev, hdev, ohdev and tdev_s, each with "
-        "_lower/_upper bounds, _n_terms and _edf")
+        "_lower/_upper bounds, _n_terms and _edf; noise_alpha and its noise_type name")
+    clock_block: dict | None = Field(
+        None, description="The result as a budget's 'clock' block ({'adev_points': [[tau_s, oadev], ...]}); "
+        "null with too few points")
+    clock_block_note: str | None = Field(None, description="How clock_block is fitted and what it lacks")
     n_samples: int
     n_phase_points: int
     data_type: str

@@ -16,6 +16,7 @@ from taubudget.physics.contacts import (
     contact_time_s,
     downlink,
     eligible_passes,
+    error_under_syncs,
     find_passes,
     greedy_syncs,
     largest_stride_meeting_budget,
@@ -108,6 +109,9 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
     greedy = greedy_syncs(cand_t, span.duration_s, err, residual, k, budget_s, grid)
     stride = largest_stride_meeting_budget(cand_t, span.duration_s, err, residual, k, budget_s, grid_s=grid)
 
+    # The same passes with the request's syncs applied (the free-running offsets above ignore them).
+    with_syncs = error_under_syncs(aos, sync_t, err, residual, k)
+
     return present_contacts.contact_plan(
         req, span, passes, paths, off_aos, off_los, sync_idx, sync_t, sim, cand_idx, greedy, stride, budget,
-        clock)
+        clock, with_syncs_at_aos=with_syncs, candidate_times_s=cand_t)

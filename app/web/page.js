@@ -145,16 +145,20 @@
   class Problem extends Error {
     constructor(problem) { super(problem.detail); this.problem = problem; }
   }
-  async function callApi(path, body, file) {
+  function apiHeaders(extra = {}) { // a key only when the service asks for one (TAUBUDGET_API_KEYS)
+    const key = $("#api-key").value.trim();
+    return key ? { ...extra, "X-API-Key": key } : extra;
+  }
+  async function callApi(path, body, file, fileType) {
     let init;
     if (file) { // an uploaded orbit file: the rest of the request travels as the 'request' part
-      const rest = structuredClone(body);
       const fd = new FormData();
       fd.append("file", file, file.name);
-      fd.append("request", JSON.stringify(rest));
-      init = { method: "POST", body: fd };
+      fd.append("request", JSON.stringify(body));
+      if (fileType) fd.append("type", fileType);
+      init = { method: "POST", headers: apiHeaders(), body: fd };
     } else {
-      init = { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(body) };
+      init = { method: "POST", headers: apiHeaders({ "Content-Type": "application/json" }), body: JSON.stringify(body) };
     }
     const r = await fetch(path, init);
     const data = await r.json().catch(() => null);
@@ -246,8 +250,10 @@
     const el = $("#plot-offset"), s = b.series;
     if (!s) { empty(el, "No series in this budget: give a series step to plot the offset."); return; }
     const x = s.time_utc.map(parseUtc);
-    const afterPreset = s.periodic_ns.map((v) => v - s.periodic_ns[0]); // the preset line through the sync at t = 0
-    const afterCorr = afterPreset.map((v, i) => v - s.eccentricity_term_ns[i]);
+    // After the preset: the periodic part referred to zero at the sync at t = 0 (the preset line passes
+    // through it); after the correction: less the change of the eccentricity term since then.
+    const afterPreset = s.periodic_ns.map((v) => v - s.periodic_ns[0]);
+    const afterCorr = afterPreset.map((v, i) => v - (s.eccentricity_term_ns[i] - s.eccentricity_term_ns[0]));
     plot("offset", el, { ...timeOpts([{}, yAxis("raw offset, ns"), yAxis("after preset / correction, ns", "res", 1)]),
       scales: { x: { time: true } },
       series: [{ label: "raw offset, ns" }, { label: "after preset, ns", scale: "res" },
@@ -421,7 +427,7 @@
   function csvQuery(req) { // the request as GET /v1/budgets.csv parameters, or null when it has no such spelling
     const o = req.orbit || {}, q = new URLSearchParams();
     const fam = { keplerian: ["semi_major_axis_km", "eccentricity", "inclination_deg", "ra_of_asc_node_deg",
-      "arg_of_pericenter_deg", "mean_anomaly_deg", "epoch", "j2_secular"],
+      "arg_of_pericenter_deg", "mean_anomaly_deg", "epoch", "j2_secular", "element_type"],
     surface: ["latitude_deg", "longitude_deg", "height_m", "geoid_undulation_m", "orthometric_height_m"] }[o.type];
     if (o.type === "tle") { q.set("tle_line1", o.line1); q.set("tle_line2", o.line2); if (o.name) return null; }
     else if (!fam) return null;
@@ -440,11 +446,12 @@
     }
     return q;
   }
-  function renderExports(full, breq, preq, budget, plan) {
+  function renderExports(full, breq, preq, budget, plan, linkable) {
     const box = $("#exports"), origin = location.origin;
     box.textContent = "";
     const linkText = JSON.stringify(full);
-    if (linkText.length <= MAX_LINK_CHARS) {
+    if (!linkable) box.append(block("Permalink", "Choose the orbit file's type to get a link that carries the file."));
+    else if (linkText.length <= MAX_LINK_CHARS) {
       const a = document.createElement("a");
       a.id = "permalink";
       a.href = `${origin}/#budget=${encodeURIComponent(linkText)}`;
@@ -453,7 +460,8 @@
       history.replaceState(null, "", a.href);
     } else box.append(block("Permalink", "The request is too long for a link (a large orbit file): use the JSON file below."));
     const curl = [state.file
-      ? `curl -s ${origin}/v1/budgets -F file=@${shellQuote(state.file.name)} -F request=${shellQuote(JSON.stringify(breq))}`
+      ? `curl -s ${origin}/v1/budgets -F file=@${shellQuote(state.file.name)} -F request=${shellQuote(JSON.stringify(breq))}` +
+        ($("#orbit-file-type").value ? ` -F type=${$("#orbit-file-type").value}` : "")
       : `curl -s -X POST ${origin}/v1/budgets -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(breq))}`];
     if (preq) curl.push(`curl -s -X POST ${origin}/v1/contact-plans -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(preq))}`);
     box.append(block("curl", curl.join("\n\n")));
@@ -488,7 +496,7 @@
       const btn = document.createElement("button");
       Object.assign(btn, { type: "button", className: "small", textContent: "passes.csv" });
       btn.addEventListener("click", async () => {
-        const r = await fetch("/v1/contact-plans.csv", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify(preq) });
+        const r = await fetch("/v1/contact-plans.csv", { method: "POST", headers: apiHeaders({ "Content-Type": "application/json" }), body: JSON.stringify(preq) });
         const a = download("passes.csv", await r.text(), "text/csv"); a.click();
       });
       dl.push(btn);
@@ -506,19 +514,24 @@
     try {
       await running($("#run-budget"), $("#budget-status"), async () => {
         const file = $("#orbit-type").value === "file" ? state.file : null;
-        const budget = await callApi("/v1/budgets", breq, file);
-        if (file) { // the detected type makes the file a text orbit: links and plans carry it as JSON
-          full.orbit = { ...full.orbit, type: budget.model.orbit.type, text: state.fileText };
-        }
+        const fileType = $("#orbit-file-type").value;
+        const budget = await callApi("/v1/budgets", breq, file, fileType);
+        // With its type named, the file becomes a JSON text orbit: links and contact plans carry it.
+        if (file && fileType) full.orbit = { ...full.orbit, type: fileType, text: state.fileText };
+        const linkable = !file || Boolean(fileType);
         const preq = full.stations ? full : null;
+        if (preq && !linkable) {
+          throw new Problem({ title: "Name the file's type", detail: "A contact plan takes the orbit file as JSON text: choose its type.",
+            errors: [{ pointer: "/orbit/type", detail: "choose the file's type (detection works for the budget only)" }] });
+        }
         const plan = preq ? await callApi("/v1/contact-plans", preq) : null;
-        render(full, breq, preq, budget, plan);
+        render(full, breq, preq, budget, plan, linkable);
       });
     } catch (e) {
       showProblem(form, box, e instanceof Problem ? e.problem : { title: "The page could not reach the service", detail: String(e) });
     }
   }
-  function render(full, breq, preq, budget, plan) {
+  function render(full, breq, preq, budget, plan, linkable) {
     const res = $("#budget-results");
     res.hidden = false;
     $$("[data-caution]", res).forEach((p) => { p.textContent = "Caution: " + budget.caution; });
@@ -532,7 +545,7 @@
     drawEnvelope(budget, plan);
     drawPasses(plan, full);
     renderModel(budget);
-    renderExports(full, breq, preq, budget, plan);
+    renderExports(full, breq, preq, budget, plan, linkable);
     document.body.dataset.budgetReady = String(Date.now());
   }
 
@@ -658,6 +671,9 @@
     });
     window.addEventListener("resize", () => Object.values(plots).forEach((u) => u.setSize({ width: Math.max(320, u.root.parentElement.clientWidth), height: 270 })));
 
+    const keyBox = $("#api-key");
+    keyBox.value = sessionStorage.getItem("taubudget-api-key") || "";
+    keyBox.addEventListener("change", () => sessionStorage.setItem("taubudget-api-key", keyBox.value.trim()));
     const doc = await (await fetch("/openapi.json")).json();
     const examples = (path) => ((((doc.paths[path] || {}).post || {}).requestBody || {}).content || {})["application/json"]?.examples || {};
     const presets = findEnum(doc.components.schemas.ClockIn?.properties?.preset) || [];

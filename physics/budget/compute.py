@@ -114,18 +114,19 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
     comps = per.components(periodic, t, period, harmonics, span.duration_s)
     position = frame.position_term_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
+    not_own = frame.not_the_clocks_own_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
 
     def periodic_at(ts):
         return q.cumulative_at(ts, rows=[0])[0] - fit.rate * ts
 
     def own_periodic_at(ts):
-        return periodic_at(ts) - (frame.position_term_s(q, ts) if frame.name == "BCRS" else 0.0)
+        return periodic_at(ts) - (frame.not_the_clocks_own_s(q, ts) if frame.name == "BCRS" else 0.0)
 
     def residual_at(ts):
         return periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
 
     p2p = refined_peak_to_peak(periodic_at, t, periodic)
-    own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - position)
+    own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - not_own)
     residual_p2p = refined_peak_to_peak(residual_at, t, residual)
     ecc_amp = 0.5 * refined_peak_to_peak(ecc_part.offset_s, t, ecc) if offered else 0.0
     i_ext = int(np.argmax(np.abs(total)))

@@ -37,7 +37,9 @@ class PeriodicPart:
     """The offset left once the secular line is removed (mean zero over the span)."""
 
     amplitude_s: float
-    """Half the peak-to-peak, without the coordinate position term (BCRS); extremes refined."""
+    """Half the peak-to-peak of the clock's own periodic part: without the coordinate position term
+    and, for a clock that does not ride with the Earth against a TT-like scale, without TDB - TT
+    (the reference's own oscillation); extremes refined."""
     peak_to_peak_s: float
     dominant_period_s: float | None
     components: tuple[PeriodicComponent, ...]

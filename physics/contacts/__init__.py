@@ -24,6 +24,7 @@ from .sync import (
     clock_error_model,
     contact_time_s,
     eligible_passes,
+    error_under_syncs,
     greedy_syncs,
     largest_stride_meeting_budget,
     select_sync_passes,
@@ -34,7 +35,7 @@ from .sync import (
 __all__ = [
     "ErrorModel", "GreedyPlan", "GroundStation", "POLICY_KINDS", "Pass", "SYNC_POINTS", "SignalPath",
     "SyncPolicy", "SyncSimulation", "clock_error_model", "contact_time_s", "downlink", "elevation_deg",
-    "eligible_passes", "find_passes", "greedy_syncs", "largest_stride_meeting_budget",
+    "eligible_passes", "error_under_syncs", "find_passes", "greedy_syncs", "largest_stride_meeting_budget",
     "one_way_fractional_shift", "sagnac_correction_s", "satellite_itrs_m", "select_sync_passes",
     "shapiro_delay_s", "simulate_syncs", "simulation_grid", "swept_area_m2",
 ]

@@ -203,14 +203,38 @@ def simulate_syncs(sync_times_s, span_s: float, err: ErrorModel, residual: Calla
     )
 
 
+def error_under_syncs(t_s, sync_times_s, err: ErrorModel, residual: Callable, k_sigma: float):
+    """Time error (s) at ``t_s`` of a clock synced at ``sync_times_s`` (the span start is a sync).
+
+    Returns (deterministic, 1-sigma, |deterministic| + k sigma), each shaped like ``t_s``; a time
+    exactly at a sync belongs to the run before it (the error the sync removes). Model: module
+    docstring.
+    """
+    t = np.atleast_1d(np.asarray(t_s, dtype=float))
+    if t.size == 0:
+        return t, t, t
+    syncs = np.concatenate([[0.0], np.sort(np.asarray(sync_times_s, dtype=float))])
+    det, sig = _error_at(t, syncs, err, residual, side="left")
+    at_start = t <= 0.0
+    if at_start.any():
+        det[at_start], sig[at_start] = _error_at(t[at_start], syncs, err, residual, side="right")
+    return det, sig, np.abs(det) + k_sigma * sig
+
+
 @dataclass
 class GreedyPlan:
-    """Sync times chosen by the greedy search, and whether they keep the envelope within budget."""
+    """Sync times chosen by the greedy search, and whether they keep the envelope within budget.
+
+    shortest_time_to_violation_s: over the runs the search planned (from the span start and from
+    each chosen sync), the shortest time after which the envelope first exceeded the budget: a sync
+    at least this often keeps it within budget on every run seen; None if it never exceeded it.
+    """
 
     sync_times_s: np.ndarray
     candidate_indices: list[int]
     feasible: bool
     first_violation_s: float | None
+    shortest_time_to_violation_s: float | None = None
     method: str = (
         "greedy: from each sync, the latest eligible contact before the k-sigma envelope first "
         "exceeds the budget; fewest syncs when the envelope grows with the time since sync, "
@@ -230,7 +254,7 @@ def greedy_syncs(candidate_times_s, span_s: float, err: ErrorModel, residual: Ca
     cand_sorted = cand[order]
     t_all = simulation_grid(span_s, cand_sorted) if grid_s is None else np.unique(
         np.concatenate([grid_s, cand_sorted]))
-    last, chosen, feasible, first_violation = 0.0, [], True, None
+    last, chosen, feasible, first_violation, shortest = 0.0, [], True, None, None
     while True:
         t = t_all[t_all > last]
         if t.size == 0:
@@ -241,6 +265,8 @@ def greedy_syncs(candidate_times_s, span_s: float, err: ErrorModel, residual: Ca
         if over.size == 0:
             break
         t_fail = t[over[0]]
+        run_s = float(t_fail - last)
+        shortest = run_s if shortest is None else min(shortest, run_s)
         ok = np.flatnonzero((cand_sorted > last) & (cand_sorted < t_fail))
         if ok.size:
             j = int(ok[-1])
@@ -254,7 +280,7 @@ def greedy_syncs(candidate_times_s, span_s: float, err: ErrorModel, residual: Ca
             j = int(later[0])
         chosen.append(int(order[j]))
         last = float(cand_sorted[j])
-    return GreedyPlan(np.array([cand[i] for i in chosen]), chosen, feasible, first_violation)
+    return GreedyPlan(np.array([cand[i] for i in chosen]), chosen, feasible, first_violation, shortest)
 
 
 def largest_stride_meeting_budget(candidate_times_s, span_s, err, residual, k_sigma, budget_s,

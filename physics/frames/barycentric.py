@@ -18,6 +18,7 @@ from ..bounded_parts import (
     EARTH_MOON_CENTRES,
     HOST_PRIMARY,
     TCB_RATE_VS_TDB_MEAN,
+    TT_LIKE_REFERENCES,
     eccentricity_part_s,
     source_centre,
 )
@@ -100,6 +101,16 @@ class BarycentricFrame(Frame):
     def _cumulative(self, q, name, t_s):
         t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
         return q.cumulative_at(t_s, rows=[self.row_names.index(name)])[0]
+
+    def not_the_clocks_own_s(self, q, t_s):
+        """What the offset carries that is not the clock's own periodic part, at ``t_s``, s: the
+        coordinate position term, and TDB - TT when a TT-like scale is compared with a clock that
+        does not ride with the Earth (the reference's own oscillation, not the clock's)."""
+        out = self.position_term_s(q, t_s)
+        if self.reference in TT_LIKE_REFERENCES and self.centre not in EARTH_MOON_CENTRES:
+            t_s = np.atleast_1d(np.asarray(t_s, dtype=float))
+            out = out + self._cumulative(q, "time_scale", t_s) - TCB_RATE_VS_TDB_MEAN * t_s
+        return out
 
     def position_term_s(self, q, t_s):
         """The coordinate position term, clock minus reference, at ``t_s``: -(Delta v_B.(x - x_B))/c^2

@@ -13,6 +13,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..constants import EARTH_EQUATORIAL_RADIUS_M, MIN_ORBIT_PERIGEE_ALTITUDE_M
+from ..errors import PhysicsInputError
+
 
 @dataclass
 class States:
@@ -63,3 +66,21 @@ class OrbitSource:
 
     def describe(self) -> dict:
         return {"type": self.kind}
+
+
+def check_perigee_altitude(perigee_radius_m: float, field: str, value) -> None:
+    """Refuse an Earth orbit whose perigee lies below MIN_ORBIT_PERIGEE_ALTITUDE_M (100 km).
+
+    perigee_radius_m: geocentric, m; field, value: the request field to name. Below that altitude
+    the atmosphere ends a satellite's flight within its first revolutions (see the constant).
+    """
+    altitude_m = perigee_radius_m - EARTH_EQUATORIAL_RADIUS_M
+    if altitude_m < MIN_ORBIT_PERIGEE_ALTITUDE_M:
+        raise PhysicsInputError(
+            field, value,
+            f"perigee altitude {altitude_m / 1e3:.0f} km is below {MIN_ORBIT_PERIGEE_ALTITUDE_M / 1e3:.0f} "
+            "km, the boundary of space used by the FAI: the atmosphere there brings a satellite down "
+            "within its first revolutions, so a drag-free orbit is meaningless (the threshold is a "
+            "convention, common practice); raise the orbit, or model a clock on the ground with "
+            "\"type\": \"surface\"",
+        )

@@ -51,16 +51,13 @@ from ..errors import PhysicsInputError
 from ..kepler import elements_to_state
 from ..potential.tidal import BODY_GM_M3_PER_S2
 from . import zonal_energy, zonal_theory
-from .base import OrbitSource, States
+from .base import OrbitSource, States, check_perigee_altitude
 
 ELEMENT_TYPES = ("osculating", "mean")
 THEORY_NAME = "Brouwer (1959) first-order J2 theory, short-period terms in polar-nodal variables"
 
 EARTH_HILL_RADIUS_M = 1.5e9
 """Radius of the Earth's Hill sphere, a (m/3M)^(1/3) ~ 1.5e6 km (common practice)."""
-
-MIN_PERIGEE_ALTITUDE_M = 0.0
-"""A perigee below the equatorial radius is refused (the orbit hits the Earth)."""
 
 
 class KeplerianOrbit(OrbitSource):
@@ -102,12 +99,13 @@ class KeplerianOrbit(OrbitSource):
                 "bound; give the orbit around the Sun (\"center\": \"sun\")",
             )
         rp = a * (1.0 - e)
-        if rp <= EARTH_EQUATORIAL_RADIUS_M + MIN_PERIGEE_ALTITUDE_M:
+        if rp <= EARTH_EQUATORIAL_RADIUS_M:
             raise PhysicsInputError(
                 "orbit.semi_major_axis_km", a / 1e3,
                 f"perigee radius {rp / 1e3:.0f} km is below the Earth's equatorial radius "
                 f"{EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km",
             )
+        check_perigee_altitude(rp, "orbit.semi_major_axis_km", a / 1e3)
         if not 0.0 <= inclination_deg <= 180.0:
             raise PhysicsInputError(
                 "orbit.inclination_deg", inclination_deg, "inclination must lie in [0, 180] degrees"

@@ -62,7 +62,7 @@ from ..constants import (
     SECONDS_PER_DAY,
 )
 from ..errors import PhysicsInputError
-from .base import OrbitSource, States
+from .base import OrbitSource, States, check_perigee_altitude
 
 RTOL = 1e-13
 """DOP853 relative tolerance (see the module docstring for why it meets 1 ps/day)."""
@@ -235,6 +235,7 @@ class NumericalOrbit(OrbitSource):
                 f"the osculating perigee radius {rp / 1e3:.0f} km is below the Earth's equatorial "
                 f"radius {EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km",
             )
+        check_perigee_altitude(rp, f"{field_prefix}.position_gcrs_km", (r / 1e3).tolist())
         self._epoch = epoch
         self.r0_m, self.v0_m_per_s = r, v
         self.gm = gm_m3_per_s2

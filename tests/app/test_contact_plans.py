@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import csv
-import io
 import json
 import pathlib
 
 import pytest
 from pydantic import ValidationError
+from support.csv_blocks import split_blocks
 from taubudget.app.contacts import PASS_COLUMNS, ContactPlanRequest, contact_plan_from_request, passes_csv
 from taubudget.physics.budget import CAUTION
 
@@ -65,11 +64,11 @@ def test_leo_policy_uses_every_second_long_pass(leo_plan):
 def test_passes_csv(leo_plan):
     text = passes_csv(leo_plan)
     assert "\r\n" in text and CAUTION in text
-    rows = list(csv.reader(io.StringIO("".join(ln + "\n" for ln in text.split("\r\n")
-                                               if ln and not ln.startswith("#")))))
+    fields, rows = split_blocks(text)
+    assert fields["caution"] == CAUTION
     assert tuple(rows[0]) == PASS_COLUMNS
-    assert len(rows) - 1 == len(leo_plan["passes"])
-    assert float(rows[1][PASS_COLUMNS.index("duration_s")]) == leo_plan["passes"][0]["duration_s"]
+    assert len(rows) == len(leo_plan["passes"])
+    assert float(rows[0]["duration_s"]) == leo_plan["passes"][0]["duration_s"]
 
 
 @pytest.mark.parametrize("patch, where", [

@@ -1,11 +1,11 @@
 """POST /v1/contact-plans and .csv, and the 'taubudget contacts' CLI verb."""
 
-import csv
-import io
 import json
 import subprocess
 import sys
 from pathlib import Path
+
+from support.csv_blocks import split_blocks
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"
 PASS_FIELDS = {"station", "aos_utc", "los_utc", "duration_s", "max_elevation_deg",
@@ -35,8 +35,8 @@ def test_contact_plan_csv_matches_json(client):
     plan = client.post("/v1/contact-plans", json=body).json()
     r = client.post("/v1/contact-plans.csv", content=json.dumps(body))  # no JSON content type
     assert r.status_code == 200 and r.headers["content-type"].startswith("text/csv")
-    lines = [ln for ln in r.text.splitlines() if not ln.startswith("#")]
-    rows = list(csv.DictReader(io.StringIO("\n".join(lines))))
+    fields, rows = split_blocks(r.text)
+    assert fields["recommendation"] == plan["recommendation"]["summary"]
     assert len(rows) == len(plan["passes"])
     assert float(rows[0]["duration_s"]) == plan["passes"][0]["duration_s"]
     assert "Planning estimate" in r.text

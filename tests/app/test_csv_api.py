@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 
 import pytest
+from support.csv_blocks import split_blocks
 from taubudget.app.csv_format import SUMMARY_FIELDS, lookup
 from taubudget.physics.budget import CAUTION
 
@@ -34,18 +33,18 @@ def _json_body(params):
 
 
 def _parse(text):
-    comments = [ln for ln in text.splitlines() if ln.startswith("#")]
-    data = [ln for ln in text.splitlines() if ln and not ln.startswith("#")]
-    return comments, list(csv.DictReader(io.StringIO("\n".join(data))))
+    """(field,value block, series rows or None): the whole text read by the csv module."""
+    return split_blocks(text)
 
 
 def test_summary_csv_round_trips_the_json(client):
     resp = client.get("/v1/budgets.csv", params=CIRCULAR)
     assert resp.status_code == 200
     assert resp.headers["content-type"].startswith("text/csv")
-    comments, rows = _parse(resp.text)
-    assert f"# caution: {CAUTION}" in comments
-    values = {r["field"]: r["value"] for r in rows}
+    values, table = _parse(resp.text)
+    assert table is None
+    assert values["caution"] == CAUTION  # one cell, although the text holds commas
+    assert values.pop("description") == "taubudget drift budget; offsets are clock minus reference"
     assert float(values["mean_rate_us_per_day"]) == pytest.approx(
         KOUBA_RATE_US_PER_DAY, abs=PUBLISHED_RATE_ROUNDING_US_PER_DAY)
     budget = client.post("/v1/budgets", json=_json_body(CIRCULAR)).json()
@@ -64,8 +63,11 @@ def test_summary_csv_round_trips_the_json(client):
 def test_series_csv_one_row_per_output_time(client):
     params = {**CIRCULAR, "eccentricity": 0.01, "series_step_s": 3600.0}
     resp = client.get("/v1/budgets.csv", params=params)
-    comments, rows = _parse(resp.text)
-    assert any(CAUTION in c for c in comments)
+    values, rows = _parse(resp.text)
+    assert values["caution"] == CAUTION
+    # the summary block stays when the series is asked for
+    assert float(values["mean_rate_us_per_day"]) == pytest.approx(
+        client.post("/v1/budgets", json=_json_body(params)).json()["mean_rate_us_per_day"], rel=1e-15)
     assert list(rows[0]) == ["time_utc", "elapsed_s", "offset_ns", "periodic_ns", "eccentricity_term_ns"]
     assert len(rows) == 25  # 0, 1 h, ..., 24 h
     assert [float(r["elapsed_s"]) for r in rows] == [3600.0 * k for k in range(25)]

@@ -9,6 +9,7 @@ import json
 from pathlib import Path
 
 import pytest
+from support.csv_blocks import split_blocks
 from taubudget.app.csv_safety import TRIGGERS, safe_cell, safe_row, safe_text
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_orbits"
@@ -42,14 +43,12 @@ def test_contact_plan_csv_neutralises_a_hostile_station_name(client):
     body["stations"][0]["name"] = HOSTILE
     r = client.post("/v1/contact-plans.csv", json=body)
     assert r.status_code == 200, r.text
-    rows = list(csv.reader(line for line in io.StringIO(r.text) if not line.startswith("#")))
-    header, data = rows[0], rows[1:]
-    station = header.index("station")
-    names = {row[station] for row in data}
+    _, table = split_blocks(r.text)
+    names = {row["station"] for row in table}
     assert "'" + HOSTILE in names and HOSTILE not in names
-    assert not any(row[station].startswith(TRIGGERS) for row in data)
+    assert not any(row["station"].startswith(TRIGGERS) for row in table)
     # Negative figures stay bare numbers (no apostrophe) wherever they occur.
-    assert all(not cell.startswith("'-") for row in data for cell in row)
+    assert all(not cell.startswith("'-") for row in table for cell in row.values())
 
 
 def test_budget_csv_keeps_negative_numbers_numeric(client):
@@ -57,7 +56,8 @@ def test_budget_csv_keeps_negative_numbers_numeric(client):
         "latitude_deg": 0.0, "longitude_deg": 0.0, "height_m": -400.0, "reference": "TT",
         "start": "2027-03-01T00:00:00Z", "duration_days": 1.0, "series_step_s": 21600})
     assert r.status_code == 200, r.text
-    rows = list(csv.reader(line for line in io.StringIO(r.text) if not line.startswith("#")))
-    offsets = [float(row[2]) for row in rows[1:]]
+    fields, table = split_blocks(r.text)
+    offsets = [float(row["offset_ns"]) for row in table]
     assert min(offsets) < 0  # a clock below the geoid loses against TT
-    assert all(not c.startswith("'") for row in rows for c in row)
+    assert all(not c.startswith("'") for row in table for c in row.values())
+    assert float(fields["mean_fractional_rate"]) < 0

@@ -22,9 +22,12 @@ from selenium import webdriver
 from selenium.common.exceptions import TimeoutException
 from selenium.webdriver.chrome.service import Service
 from selenium.webdriver.common.by import By
-from selenium.webdriver.support.ui import WebDriverWait
+from selenium.webdriver.support.ui import Select, WebDriverWait
 from support.nist_sp1065 import NBS9_Y, TABLE_30
 
+ROOT = Path(__file__).resolve().parents[2]
+OEM_SAMPLE = ROOT / "sample_orbits" / "formats" / "kestrel_nav3.oem"  # invented, see sample_orbits/README.md
+OEM_SPAN = ("2027-03-01T01:00:00Z", "2027-03-01T07:00:00Z")  # inside the file's first segment
 CHROMIUM = "/usr/bin/chromium"  # Debian's chromium package
 CHROMEDRIVER = "/usr/bin/chromedriver"  # Debian's chromium-driver package
 COMPUTE_WAIT_S = 120.0  # a week-long MEO budget plus its contact plan, on a busy 2-core machine
@@ -189,6 +192,26 @@ def test_planner_page_end_to_end(server, browser, tmp_path):
         assert msg.get_attribute("data-pointer") == "/orbit/semi_major_axis_km"
         assert "invalid" in field.get_attribute("class")
     d.save_screenshot(str(tmp_path / "planner-bad-input.png"))
+
+    # An uploaded orbit file, its type detected by the service (multipart, as curl -F sends it).
+    for remove in d.find_elements(By.CSS_SELECTOR, ".station button"):
+        remove.click()
+    Select(d.find_element(By.ID, "orbit-type")).select_by_value("file")
+    d.find_element(By.ID, "orbit-file").send_keys(str(OEM_SAMPLE))
+    for ptr, value in (("/start", OEM_SPAN[0]), ("/end", OEM_SPAN[1]), ("/series_step_s", "600")):
+        box = d.find_element(By.CSS_SELECTOR, f'[data-ptr="{ptr}"]')
+        box.clear()
+        box.send_keys(value)
+    mark = d.execute_script("return document.body.dataset.budgetReady")
+    d.find_element(By.ID, "run-budget").click()
+    _wait_ready(d, mark)
+    rest = {**{k: v for k, v in budget_req.items() if k != "orbit"}, "start": OEM_SPAN[0], "end": OEM_SPAN[1],
+            "series_step_s": 600}
+    uploaded = httpx.post(server + "/v1/budgets", files={"file": (OEM_SAMPLE.name, OEM_SAMPLE.read_bytes())},
+                          data={"request": json.dumps(rest)}, timeout=COMPUTE_WAIT_S).json()
+    assert uploaded["model"]["orbit"]["source"].startswith("OEM")
+    assert _headline(d)["mean_rate_us_per_day"] == uploaded["mean_rate_us_per_day"]
+    assert _point_counts(d)["offset"][1] == len(uploaded["series"]["time_utc"])
 
     # The stability tab: the NBS 9-point sample against NIST SP 1065 Table 30.
     d.find_element(By.CSS_SELECTOR, '[data-tab="stability"]').click()

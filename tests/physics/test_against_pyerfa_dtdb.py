@@ -64,3 +64,15 @@ def test_reference_periodic_part_is_tdb_minus_tt_from_pyerfa(ts):
     theirs = theirs - theirs[0]
     assert np.max(np.abs(ours - theirs)) < 100e-9
     assert np.ptp(theirs) > 3e-3  # the annual term is really there (peak to peak ~3.3 ms)
+
+
+def test_mars_clock_periodic_part_excludes_tts_own_oscillation(ts):
+    # Against TT, a Mars clock's offset carries TDB - TT (pyerfa dtdb: 1.66 ms annual), which is the
+    # reference's oscillation; the clock's own periodic part is the same against TT and TDB.
+    from support.budgets import as_dict
+
+    mars = BodySurfaceClock("mars", 18.4, 226.0, -2000.0)
+    tt = as_dict(_rate(ts, mars, "TT", 120.0, start=(2029, 2, 1)))["periodic"]
+    tdb = as_dict(_rate(ts, mars, "TDB", 120.0, start=(2029, 2, 1)))["periodic"]
+    assert abs(tt["amplitude_ns"] - tdb["amplitude_ns"]) < 1.0  # ns, of ~1e5 ns
+    assert tt["amplitude_with_position_term_ns"] - tdb["amplitude_with_position_term_ns"] > 1e3
