@@ -6,7 +6,7 @@ import logging
 from typing import Annotated, Any
 
 from fastapi import APIRouter, Query, Request
-from fastapi.responses import JSONResponse, PlainTextResponse, Response
+from fastapi.responses import PlainTextResponse, Response
 from pydantic import ValidationError
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.errors import PhysicsInputError
@@ -31,7 +31,9 @@ from ..schemas import (
     EXAMPLE_LUNAR_REQUEST,
     EXAMPLE_REQUEST,
     BatchRequest,
+    BatchResponse,
     BudgetRequest,
+    BudgetResponse,
 )
 from ..services.budget import budget_from_request, estimate_nodes, merge_item
 from ..studies import table as study_table
@@ -53,8 +55,9 @@ def _validate(body: Any) -> BudgetRequest:
 @router.post(
     "/budgets",
     summary="Compute the drift budget of one clock",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "BudgetResponse", "The budget", (400, 413, 422)),
+    response_model=BudgetResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("The budget", (400, 413, 422)),
     openapi_extra=doc.budget_body({
         "meo_circular_point_mass": ("Circular MEO orbit, point-mass Earth, against TT",
                                     EXAMPLE_REQUEST),
@@ -71,12 +74,12 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
     """Compute the drift budget of one clock against one reference over one span."""
     if not uploads.is_multipart(request):
         req = _validate(parse_json(await request.body()))
-        return JSONResponse(await compute(budget_from_request, req, settings))
+        return await compute(budget_from_request, req, settings)
     up = await uploads.read_upload(request, ("request",))
     document = uploads.json_document(up, "orbit")
     if document is not None:  # the request JSON itself, uploaded as a file
         req = _validate(document)
-        return JSONResponse(await compute(budget_from_request, req, settings))
+        return await compute(budget_from_request, req, settings)
     body, parts = uploads.budget_body(up)
     try:
         req = BudgetRequest.model_validate(body)
@@ -86,7 +89,7 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
         result = await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         raise uploads.upload_physics_problem(exc, parts) from exc
-    return JSONResponse(result)
+    return result
 
 
 # --- Batch ---------------------------------------------------------------------------
@@ -140,8 +143,9 @@ def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
 @router.post(
     "/budgets/batch",
     summary="Compute budgets for many clocks",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "BatchResponse", "One result per item, in order", (400, 413, 422)),
+    response_model=BatchResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("One result per item, in order", (400, 413, 422)),
     openapi_extra=doc.batch_body({
         "two_satellites": ("Two navigation satellites sharing defaults", EXAMPLE_BATCH_REQUEST),
     }),
@@ -152,7 +156,7 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
     result = await _batch(request, settings, compute)
     if "text/csv" in request.headers.get("accept", ""):
         return _batch_csv(result)
-    return JSONResponse(result)
+    return result  # checked against BatchResponse
 
 
 @router.post(
