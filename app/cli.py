@@ -350,19 +350,21 @@ def render_contacts(plan: dict) -> str:
     k = plan["k_sigma"]
     synced = f"{k:g}sig w/ syncs"
     out = [f"{'station':<18} {'AOS (UTC)':<20} {'LOS (UTC)':<20} {'dur s':>6} {'max el':>6} "
-           f"{'free-run ns':>12} {synced:>14} {'sync':>4}"]
+           f"{'free-run ns':>12} {synced:>14} {'sync':>4} {'pre-sync ns':>11}"]
     for p in plan["passes"]:
-        bound = p.get("bound_at_aos_with_syncs_ns")
+        bound, before = p.get("bound_at_aos_with_syncs_ns"), p.get("bound_before_sync_ns")
         bound_text = "" if bound is None else f"{bound:.3f}"
+        before_text = "" if before is None else f"{before:.3f}"
         aos, los = _utc_seconds(p["aos_utc"]), _utc_seconds(p["los_utc"])
         out.append(f"{p['station'][:18]:<18} {aos:<20} {los:<20} {p['duration_s']:6.0f} "
                    f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} {bound_text:>14} "
-                   f"{'yes' if p.get('used_for_sync') else '':>4}")
+                   f"{'yes' if p.get('used_for_sync') else '':>4} {before_text:>11}".rstrip())
     rec = plan.get("recommendation") or {}
     out += [
         "",
         "free-run ns: offset at AOS running free since the span start, ignoring every sync;",
-        f"{synced}: |time error| + {k:g} sigma at AOS with the plan's syncs applied.",
+        f"{synced}: |time error| + {k:g} sigma at AOS with the plan's syncs applied;",
+        f"pre-sync ns: |time error| + {k:g} sigma just before the sync at that pass.",
         "",
         f"syncs: {len(plan['syncs'])}   worst error: {plan['worst_error_ns']:.3f} ns   "
         f"worst gap: {plan['worst_gap_s']:.0f} s   budget {plan['time_error_budget_ns']:g} ns at "

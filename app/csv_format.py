@@ -184,6 +184,7 @@ def field_text(budget: dict, name: str) -> str:
 PASS_COLUMNS = (
     "station", "aos_utc", "los_utc", "culmination_utc", "duration_s", "max_elevation_deg",
     "offset_at_aos_ns", "offset_at_los_ns", "error_at_aos_with_syncs_ns", "bound_at_aos_with_syncs_ns",
+    "bound_before_sync_ns",
     "light_time_us", "sagnac_correction_ns", "fractional_frequency_shift", "used_for_sync",
 )
 

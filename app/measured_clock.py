@@ -32,6 +32,8 @@ from taubudget.physics.span import Span
 from .formats import FormatError, build_format_source
 from .formats.files import orbit_from_file
 from .formats.models import TEXT_ORBITS
+from .present.budget import utc1
+from .present.residuals import residuals as present_residuals
 
 PERIODIC_TERM_IN_DATA_DEFAULT = False
 """IGS convention: clock products exclude the periodic term (Kouba 2004, abstract)."""
@@ -137,10 +139,10 @@ def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: 
         "clock_file": {"kind": kind, "label": label, "points": int(len(times))},
         "orbit": source.describe(),
         "epochs_without_orbit": int(np.count_nonzero(states.code != 0)),
-        "start_utc": start.utc_strftime("%Y-%m-%dT%H:%M:%S.%fZ"),
+        "start_utc": utc1(span, 0.0),
         "periodic_term_in_data": bool(periodic_term_in_data),
         "assumption": ASSUMPTION_RAW if periodic_term_in_data else ASSUMPTION_IGS,
-        **result.to_dict(),
+        **present_residuals(result),
         "offsets": "clock minus reference (the clock file's reference timescale)",
         "caution": CAUTION,
     }

@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .clock import stability_table
-from .constants import C2_M2_PER_S2, L_G, SECONDS_PER_DAY
+from .constants import C2_M2_PER_S2, L_G
 from .errors import PhysicsInputError
 
 MIN_POINTS_FOR_STABILITY = 8
@@ -53,25 +53,6 @@ class ClockResiduals:
     harmonic_amplitudes_s: dict
     stability: object | None
     note: str
-
-    def to_dict(self) -> dict:
-        out = {
-            "points": int(self.t_s.size),
-            "span_s": float(self.t_s[-1] - self.t_s[0]),
-            "periodic_term_subtracted": self.periodic_term_subtracted,
-            "periodic_term_amplitude_ns": 0.5 * float(np.ptp(self.periodic_term_s)) * 1e9,
-            "secular_fractional_rate": self.secular_rate,
-            "secular_rate_us_per_day": self.secular_rate * SECONDS_PER_DAY * 1e6,
-            "offset_at_start_ns": self.offset_at_start_s * 1e9,
-            "residual_rms_ns": float(np.sqrt(np.mean(self.residual_s**2))) * 1e9,
-            "residual_peak_to_peak_ns": float(np.ptp(self.residual_s)) * 1e9,
-            "orbital_period_s": self.orbital_period_s,
-            "residual_periodic_amplitude_ns": {k: v * 1e9 for k, v in self.harmonic_amplitudes_s.items()},
-            "note": self.note,
-        }
-        if self.stability is not None:
-            out["deviations"] = self.stability.rows()
-        return out
 
 
 def clock_residuals(t_s, clock_offset_s, r_m, v_m_per_s, *, periodic_term_in_data: bool,

@@ -8,14 +8,14 @@ from typing import Annotated, Any
 
 from fastapi import APIRouter, Query, Request
 from fastapi.concurrency import run_in_threadpool
-from fastapi.responses import JSONResponse, PlainTextResponse, Response
+from fastapi.responses import PlainTextResponse, Response
 from pydantic import TypeAdapter, ValidationError
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.cancel import checkpoint
 from taubudget.physics.errors import PhysicsInputError
 
 from .. import csv_format
-from ..compute import ComputeDep, json_response
+from ..compute import ComputeDep
 from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_CANCELLED,
@@ -35,7 +35,9 @@ from ..schemas import (
     EXAMPLE_LUNAR_REQUEST,
     EXAMPLE_REQUEST,
     BatchRequest,
+    BatchResponse,
     BudgetRequest,
+    BudgetResponse,
 )
 from ..schemas.orbits import Orbit
 from ..services.budget import budget_from_request, merge_item, orbit_source, planned_cost_of
@@ -76,8 +78,9 @@ def _parse_batch(raw: bytes) -> BatchRequest:
 @router.post(
     "/budgets",
     summary="Compute the drift budget of one clock",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "BudgetResponse", "The budget", (400, 413, 422)),
+    response_model=BudgetResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("The budget", (400, 413, 422)),
     openapi_extra=doc.budget_body({
         "meo_circular_point_mass": ("Circular MEO orbit, point-mass Earth, against TT",
                                     EXAMPLE_REQUEST),
@@ -94,12 +97,12 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
     """Compute the drift budget of one clock against one reference over one span."""
     if not uploads.is_multipart(request):
         req = await run_in_threadpool(_parse_budget, await request.body())
-        return await json_response(await compute(budget_from_request, req, settings))
+        return await compute(budget_from_request, req, settings)
     up = await uploads.read_upload(request, ("request",))
     document = uploads.json_document(up, "orbit")
     if document is not None:  # the request JSON itself, uploaded as a file
         req = _validate(document)
-        return await json_response(await compute(budget_from_request, req, settings))
+        return await compute(budget_from_request, req, settings)
     body, parts = uploads.budget_body(up)
     try:
         req = BudgetRequest.model_validate(body, strict=False)  # form fields are text
@@ -109,7 +112,7 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
         result = await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         raise uploads.upload_physics_problem(exc, parts) from exc
-    return await json_response(result)
+    return result
 
 
 # --- Batch ---------------------------------------------------------------------------
@@ -163,8 +166,9 @@ def _item_id(i: int, item: Any, seen: set) -> tuple[Any, dict | None]:
 @router.post(
     "/budgets/batch",
     summary="Compute budgets for many clocks",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "BatchResponse", "One result per item, in order", (400, 413, 422)),
+    response_model=BatchResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("One result per item, in order", (400, 413, 422)),
     openapi_extra=doc.batch_body({
         "two_satellites": ("Two navigation satellites sharing defaults", EXAMPLE_BATCH_REQUEST),
     }),
@@ -175,7 +179,7 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
     result = await _batch(request, settings, compute)
     if "text/csv" in request.headers.get("accept", ""):
         return _batch_csv(result)
-    return await json_response(result)
+    return result  # checked against BatchResponse
 
 
 @router.post(

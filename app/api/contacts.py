@@ -7,14 +7,14 @@ from importlib.resources import files
 from typing import Any
 
 from fastapi import APIRouter
-from fastapi.responses import JSONResponse, PlainTextResponse
+from fastapi.responses import PlainTextResponse
 from pydantic import ValidationError
 
 from ..compute import ComputeDep
 from ..csv_format import passes_csv
 from ..deps import JsonBody, SettingsDep
 from ..problems import ProblemError, validation_errors, validation_problem
-from ..schemas import ContactPlanRequest
+from ..schemas import ContactPlanRequest, ContactPlanResponse
 from ..services.contacts import contact_plan_from_request
 from . import openapi_doc as doc
 
@@ -47,13 +47,15 @@ def _validate(body: Any) -> ContactPlanRequest:
     "/contact-plans",
     summary="Plan resynchronisation at ground contacts",
     response_description="Passes, syncs, the worst error and whether the budget holds",
-    responses=doc.responses(200, "ContactPlanResponse", "The contact plan", (400, 413, 422)),
+    response_model=ContactPlanResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("The contact plan", (400, 413, 422)),
     openapi_extra=doc.json_body("ContactPlanRequest", _EXAMPLES),
 )
 async def create_contact_plan(body: JsonBody, settings: SettingsDep, compute: ComputeDep):
     """Find the passes over the stations, simulate syncs by the policy and check the time-error budget."""
     req = _validate(body)
-    return JSONResponse(await compute(contact_plan_from_request, req, settings))
+    return await compute(contact_plan_from_request, req, settings)
 
 
 @router.post(

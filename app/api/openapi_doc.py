@@ -35,6 +35,12 @@ def responses(status: int, model: str, description: str, errors, example: dict |
             **problem_responses(errors)}
 
 
+def model_responses(description: str, errors) -> dict:
+    """The 200 of a route with ``response_model`` (FastAPI generates its schema from the model, so
+    the document shows what the route really returns) plus its problem responses."""
+    return {200: {"description": description}, **problem_responses(errors)}
+
+
 def _examples(examples: dict) -> dict:
     return {key: {"summary": summary, "value": value} for key, (summary, value) in examples.items()}
 

@@ -121,6 +121,9 @@ def contact_plan(req, span, passes, paths, off_aos_s, off_los_s, sync_idx, sync_
             "time_since_previous_sync_s": t - prev,
         })
         prev = t
+    before_sync = {row["pass_index"]: row["bound_before_sync_ns"] for row in sync_rows}
+    for i, row in enumerate(pass_rows):
+        row["bound_before_sync_ns"] = before_sync.get(i)
     greedy_passes = [cand_idx[c] for c in greedy.candidate_indices]
     first_violation = None if greedy.first_violation_s is None else utc1(span, greedy.first_violation_s)
     return {

@@ -157,6 +157,8 @@ class PassOut(_Open):
         None, description="Deterministic time error at AOS with the request's syncs applied, ns")
     bound_at_aos_with_syncs_ns: float | None = Field(
         None, description="|error_at_aos_with_syncs_ns| + k_sigma x 1-sigma at AOS, syncs applied, ns")
+    bound_before_sync_ns: float | None = Field(
+        None, description="For a pass used for a sync: |error| + k_sigma x 1-sigma just before it, ns")
     light_time_us: float = Field(description="At culmination")
     sagnac_correction_ns: float = Field(description="At culmination")
     fractional_frequency_shift: float = Field(description="At culmination")

@@ -162,7 +162,11 @@ def test_budget_beyond_the_search_horizon_is_null(client):
 # sample_orbits/meo_navigation.json over 1 day instead of 7: the 7-day run crosses 10 ns at
 # about 32 h, so a 1-day span used to answer "not reached". The closed-form envelope of the
 # preset (module docstring) with the file's x0 = 1.5 ns and y0 = 2e-14 crosses 10 ns at 32.08 h.
-RESIDUAL_SHARE = 0.01  # the ps-level relativistic residual and fit margin move it < 1 %
+# The closed form leaves out the relativistic residual after the correction (J2 and tidal periodic
+# terms, ~0.1 ns near 32 h); the envelope grows ~0.36 ns/h there (ageing 0.24, y0 0.07, noise
+# 0.05), so the residual moves the crossing by up to ~1 %: 2 % against the closed form.
+CLOSED_FORM_SHARE = 0.02
+RESIDUAL_SHARE = 0.01  # 1-day vs 7-day span: the same residual, fitted over different spans
 
 
 def _meo_nav_closed_form_s() -> float:
@@ -184,7 +188,7 @@ def test_one_day_span_finds_the_32_hour_free_running_time(client):
     assert week["budget_reached_within_span"] is True and week["max_free_running_beyond_span"] is False
     assert day["budget_reached_within_span"] is False and day["max_free_running_beyond_span"] is True
     assert _meo_nav_closed_form_s() / 3600 == pytest.approx(32.08, abs=0.01)
-    assert day["max_free_running_s"] == pytest.approx(_meo_nav_closed_form_s(), rel=RESIDUAL_SHARE)
+    assert day["max_free_running_s"] == pytest.approx(_meo_nav_closed_form_s(), rel=CLOSED_FORM_SHARE)
     assert day["max_free_running_s"] == pytest.approx(week["max_free_running_s"], rel=RESIDUAL_SHARE)
 
 

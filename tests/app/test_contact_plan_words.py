@@ -58,6 +58,14 @@ def test_cli_table_labels_the_columns_and_prints_the_recommendation():
     assert "3sig w/ syncs" in run.stdout
     assert SUMMARY.search(run.stdout)
     assert "largest error just before a sync" in run.stdout
+    assert "pre-sync ns: |time error| + 3 sigma just before the sync at that pass" in run.stdout
+
+
+def test_each_sync_pass_carries_the_error_just_before_it(plan):
+    before = {s["pass_index"]: s["bound_before_sync_ns"] for s in plan["syncs"]}
+    for i, p in enumerate(plan["passes"]):
+        assert p["bound_before_sync_ns"] == before.get(i)
+        assert (p["bound_before_sync_ns"] is not None) == (i in before)
 
 
 def test_pass_csv_carries_metadata_as_rows_and_the_synced_columns():
@@ -76,3 +84,6 @@ def test_pass_csv_carries_metadata_as_rows_and_the_synced_columns():
     assert body and all(len(r) == len(header) for r in body)
     i = header.index("bound_at_aos_with_syncs_ns")
     assert max(float(r[i]) for r in body) <= 10.0
+    j = header.index("bound_before_sync_ns")
+    synced = [r for r in body if r[header.index("used_for_sync")] == "true"]
+    assert synced and all(r[j] != "" and float(r[j]) <= 10.0 for r in synced)

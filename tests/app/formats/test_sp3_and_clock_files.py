@@ -13,6 +13,7 @@ import numpy as np
 import pytest
 from taubudget.app.formats.rinex_clock import parse_rinex_clock
 from taubudget.app.formats.sp3 import clock_series, parse_sp3, sp3_source
+from taubudget.app.present.residuals import residuals as present_residuals
 from taubudget.physics.clock_residuals import clock_residuals
 from taubudget.physics.constants import C2_M2_PER_S2, GM_EARTH_TCG_M3_PER_S2
 from taubudget.physics.orbits import KeplerianOrbit
@@ -88,7 +89,7 @@ def test_clock_residuals_recover_rate_and_remove_the_periodic_term(ts, sp3, sid)
     st = sp3_source(sp3, sid).states(span, t_s)
     res = clock_residuals(t_s, bias, st.r_gcrs_m, st.v_gcrs_m_per_s, periodic_term_in_data=True,
                           orbital_period_s=kep.period_s())
-    out = res.to_dict()
+    out = present_residuals(res)
     assert abs(res.secular_rate - CLOCK_RATE[sid]) < 1e-16  # 0.5 ps rounding over a day
     a, e = ELEMENTS[sid][0] * 1e3, ELEMENTS[sid][1]
     closed_form_ns = 2.0 * np.sqrt(a * GM_EARTH_TCG_M3_PER_S2) * e / C2_M2_PER_S2 * 1e9
@@ -97,6 +98,6 @@ def test_clock_residuals_recover_rate_and_remove_the_periodic_term(ts, sp3, sid)
     assert out["residual_periodic_amplitude_ns"]["orbital_period"] < 0.01 * closed_form_ns
     assert out["deviations"] and out["deviations"][0]["tau_s"] == 300.0
     # Under the IGS convention nothing is subtracted, and the periodic term stays in the residual.
-    igs = clock_residuals(t_s, bias, st.r_gcrs_m, st.v_gcrs_m_per_s, periodic_term_in_data=False,
-                          orbital_period_s=kep.period_s()).to_dict()
+    igs = present_residuals(clock_residuals(t_s, bias, st.r_gcrs_m, st.v_gcrs_m_per_s,
+                                            periodic_term_in_data=False, orbital_period_s=kep.period_s()))
     assert igs["residual_periodic_amplitude_ns"]["orbital_period"] > 0.9 * closed_form_ns
