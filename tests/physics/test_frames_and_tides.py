@@ -1,6 +1,7 @@
 """Coarse-grid interpolation of Earth orientation and Sun/Moon positions, bounded against skyfield."""
 
 import numpy as np
+import pytest
 from skyfield.api import wgs84
 from skyfield.framelib import itrs
 from skyfield.sgp4lib import TEME
@@ -14,7 +15,6 @@ ONE_MILLIMETRE_M = 1e-3
 ONE_METRE_M = 1.0
 
 
-import pytest
 
 
 @pytest.mark.parametrize("days", [30.0, 400.0])  # 400 days: the grid is built in several blocks
