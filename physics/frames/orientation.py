@@ -31,6 +31,9 @@ from skyfield.sgp4lib import TEME
 from ..constants import SECONDS_PER_DAY
 from ..span import Span
 
+_GRID_BLOCK = 1000
+"""Grid times per skyfield call when the orientation grid is built (bounds its memory)."""
+
 ORIENTATION_GRID_STEP_S = 3 * 3600.0
 """Spacing of the coarse Earth-orientation grid, s (error bound tested)."""
 
@@ -57,11 +60,17 @@ class EarthOrientation:
     @classmethod
     def for_span(cls, span: Span, step_s: float = ORIENTATION_GRID_STEP_S) -> EarthOrientation:
         grid = coarse_grid_s(span, step_s)
-        t = span.times(grid)
-        m = np.moveaxis(t.M, -1, 0).reshape(len(grid), 9)
-        gast = np.unwrap(t.gast * (np.pi / 12.0))
-        teme = np.moveaxis(TEME.rotation_at(t), -1, 0).reshape(len(grid), 9)
-        return cls(span, CubicSpline(grid, m), CubicSpline(grid, gast), CubicSpline(grid, teme))
+        m, gast, teme = [], [], []
+        # In blocks: skyfield's nutation series holds (terms x times) arrays, so one call over a
+        # 15-year grid (44k times) peaked near 1 GB; blocks keep it at tens of MB.
+        for lo in range(0, len(grid), _GRID_BLOCK):
+            t = span.times(grid[lo:lo + _GRID_BLOCK])
+            m.append(np.moveaxis(t.M, -1, 0).reshape(-1, 9))
+            gast.append(t.gast * (np.pi / 12.0))
+            teme.append(np.moveaxis(TEME.rotation_at(t), -1, 0).reshape(-1, 9))
+        return cls(span, CubicSpline(grid, np.concatenate(m)),
+                   CubicSpline(grid, np.unwrap(np.concatenate(gast))),
+                   CubicSpline(grid, np.concatenate(teme)))
 
     def gcrs_to_tod(self, t_s: np.ndarray) -> np.ndarray:
         """(N, 3, 3) matrices GCRS -> true equator and equinox of date."""

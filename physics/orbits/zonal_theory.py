@@ -92,8 +92,9 @@ def osculating_state(el: MeanElements, field: J2Field, tau_s) -> tuple[np.ndarra
     about the frozen eccentricity (0, e_f), e_f = -(J3 / 2 J2) (R/p) sin i: the long-period
     J3 term in its near-circular form (the frozen-orbit eccentricity of J2 + J3, e.g. CNES
     CelestLab ``CL_op_frozenOrbit``: ecc = -0.5 sin(i) (R/a) J3/J2 at argp = 90 deg; the
-    circling at the J2 perigee rate: Cook 1966, Planet. Space Sci. 14:433, cited from memory).
-    Both are checked against the numerical integration in the tests, which is what we rely on. The mean longitude M + argp keeps its rate.
+    circling at the J2 perigee rate: Cook 1966, Planet. Space Sci. 14:433, cited from
+    memory). Both are checked against the numerical integration in the tests, which is what
+    we rely on. The mean longitude M + argp keeps its rate.
     """
     tau = np.atleast_1d(np.asarray(tau_s, dtype=float))
     raan_rate, argp_rate, m_rate = secular_rates(el, field)
