@@ -129,3 +129,10 @@ def test_body_switch_for_an_earth_clock_in_the_bcrs_is_refused(client, problem_o
     problem = problem_of(client.post("/v1/budgets", json=b), 422)
     assert f"/gravity/{body}" in [e["pointer"] for e in problem["errors"]]
     assert "tidal part" in problem["detail"]
+
+
+def test_huge_integer_literal_is_a_400_in_plain_words(client, problem_of):
+    # Review: a 5001-digit integer got Python's advice about sys.set_int_max_str_digits().
+    body = b'{"orbit": {"type": "keplerian", "semi_major_axis_km": ' + b"9" * 5001 + b"}}"
+    problem = problem_of(client.post("/v1/budgets", content=body), 400)
+    assert "5001 digits" in problem["detail"] and "sys." not in problem["detail"]
