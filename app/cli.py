@@ -66,9 +66,15 @@ def render_table(b: dict) -> str:
     if b["periodic"]["dominant_period_s"]:
         rows.append(("dominant period", f"{b['periodic']['dominant_period_s']:.1f} s"))
     ec = b["eccentricity_correction"]
+    if ec.get("applicable", True):
+        rows.append(("eccentricity term", f"{ec['amplitude_ns']:.6f} ns amplitude"))
+        residual_label = "after user correction"
+    else:
+        rows.append(("eccentricity term", "not offered for this clock (no orbit around its centre "
+                     "to correct)"))
+        residual_label = "after preset only"
     rows += [
-        ("eccentricity term", f"{ec['amplitude_ns']:.6f} ns amplitude"),
-        ("after user correction", f"{ec['residual_after_correction_ns']:.6f} ns max residual"),
+        (residual_label, f"{ec['residual_after_correction_ns']:.6f} ns max residual"),
         ("integration error", f"{b['integration_error_estimate_ps']:.3g} ps (estimate), "
          f"{b['nodes_used']} nodes"),
     ]
@@ -82,7 +88,8 @@ def render_table(b: dict) -> str:
         out.append(f"frame: BCRS. {b.get('tt_convention', '')}")
         if b.get("position_term"):
             out.append(f"position term v_B.(x - x_B)/c^2: {b['position_term']['amplitude_ns']:.3f} ns "
-                       "amplitude (in the offset and the periodic part)")
+                       "amplitude (in the offset and the max residual; not in the periodic amplitude, "
+                       "which is the clock's own)")
     out.append("omitted terms (size, fractional):")
     for term in b["omitted_terms"]:
         out.append(f"  {term['term']:<{width + 16}}  {term['size_fractional']:.1e}")

@@ -66,6 +66,18 @@ def too_deep(part: str | None = None) -> ProblemError:
                         f"{MAX_JSON_DEPTH} deep); no request field needs that.", TYPE_MALFORMED_BODY, [err])
 
 
+MAX_INTEGER_DIGITS = 40
+"""Longest integer literal accepted in a JSON body: no request field needs more digits."""
+
+
+def _parse_int(text: str) -> int:
+    # Python's own limit (4300 digits) would answer with advice about its interpreter settings.
+    if len(text.lstrip("-")) > MAX_INTEGER_DIGITS:
+        raise ValueError(f"an integer of {len(text.lstrip('-'))} digits; no request field needs more "
+                         f"than {MAX_INTEGER_DIGITS}")
+    return int(text)
+
+
 def parse_json(raw: bytes) -> Any:
     """Parse a request body as JSON whatever its content type; malformed -> 400 problem."""
     if not raw.strip():
@@ -73,7 +85,7 @@ def parse_json(raw: bytes) -> Any:
                            TYPE_MALFORMED_BODY, [{"pointer": "", "detail": "empty body"}])
     try:
         text = raw.decode("utf-8-sig")
-        doc = json.loads(text, parse_constant=_reject_constant)
+        doc = json.loads(text, parse_constant=_reject_constant, parse_int=_parse_int)
     except UnicodeDecodeError as exc:
         raise ProblemError(400, "Malformed body", f"The body is not UTF-8 text: {exc.reason} at "
                            f"byte {exc.start}.", TYPE_MALFORMED_BODY,

@@ -30,6 +30,13 @@ __all__ = ["FormatError", "FORMAT_ORBITS", "TEXT_ORBITS", "build_format_source",
            "OmmOrbitIn", "OpmOrbitIn", "OemOrbitIn", "Sp3OrbitIn", "TleFileOrbitIn", "StateVectorOrbitIn"]
 
 
+def _in_text(exc: PhysicsInputError, prefix: str) -> PhysicsInputError:
+    """A source's error naming its own parameter (``line1``, ...) points at the file's text."""
+    if exc.field is None or "." in exc.field:
+        return exc
+    return PhysicsInputError(f"{prefix}.text", None, f"{exc.field}: {exc.reason}")
+
+
 def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn, prefix: str, label: str):
     from taubudget.physics.orbits.numerical import NumericalOrbit
 
@@ -103,6 +110,8 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
             return [(oid, parse_oem(orbit.text, oid, f"{prefix}.text")) for oid in oem_object_ids(orbit.text)]
     except FormatError as exc:
         raise exc.to_physics(f"{prefix}.text") from None
+    except PhysicsInputError as exc:
+        raise _in_text(exc, prefix) from None
     return [("1", build_format_source(orbit, prefix))]
 
 
@@ -131,6 +140,8 @@ def build_format_source(orbit, prefix: str = "orbit"):
             return _pick(_omm_sources(orbit, prefix), orbit.object_id, "OMM")[2]
     except FormatError as exc:
         raise exc.to_physics(f"{prefix}.text") from None
+    except PhysicsInputError as exc:
+        raise _in_text(exc, prefix) from None
     if isinstance(orbit, TleFileOrbitIn | Sp3OrbitIn):
         found = format_sources(orbit, prefix)
         if len(found) > 1:

@@ -79,6 +79,27 @@ ORBIT_BUILDERS: dict[type, Callable] = {
 """Request model -> builder(orbit, prefix) of its physics source."""
 
 
+REQUEST_FIELDS = {
+    "semi_major_axis_m": ("semi_major_axis_km", lambda m: m / 1e3),
+    "zonal_degree": ("gravity.earth_zonal_degree", None),
+}
+"""A physics parameter (SI) -> the request's field under the orbit block and its unit conversion;
+parameters with the same name and unit in both (eccentricity, inclination_deg, line1, ...) are not
+listed. A field starting with "gravity." is the request's own top-level block."""
+
+
+def request_error(exc: PhysicsInputError, prefix: str) -> PhysicsInputError:
+    """A physics source's error (its own parameter, SI) in the request's terms: the field under
+    ``prefix`` and the value in the request's unit. Errors already naming a request path (dotted,
+    or a top-level request field) pass unchanged."""
+    if exc.field is None or "." in exc.field or exc.field in ("orbit", "reference", "start", "end"):
+        return exc
+    name, convert = REQUEST_FIELDS.get(exc.field, (exc.field, None))
+    field = name if name.startswith("gravity.") else f"{prefix}.{name}"
+    value = convert(exc.value) if convert is not None and exc.value is not None else exc.value
+    return PhysicsInputError(field, value, exc.reason)
+
+
 def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
     """The physics orbit source of a request's orbit block (``prefix``: its request path).
 
@@ -89,6 +110,9 @@ def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
         builder = ORBIT_BUILDERS[type(orbit)]
     except KeyError:  # pragma: no cover - the Orbit union and the registry are checked by a test
         raise TypeError(f"unsupported orbit {type(orbit).__name__}") from None
-    if builder is _keplerian:
-        return builder(orbit, prefix, zonal_degree)
-    return builder(orbit, prefix)
+    try:
+        if builder is _keplerian:
+            return builder(orbit, prefix, zonal_degree)
+        return builder(orbit, prefix)
+    except PhysicsInputError as exc:
+        raise request_error(exc, prefix) from None

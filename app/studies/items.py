@@ -35,7 +35,7 @@ from ..problems import (
     validation_problem,
 )
 from ..schemas import BudgetRequest
-from ..services.budget import budget_from_request, build_source, estimate_nodes, merge_item
+from ..services.budget import budget_from_request, estimate_nodes, merge_item, orbit_source
 from ..settings import Settings
 
 log = logging.getLogger("taubudget.studies")
@@ -99,7 +99,7 @@ def run_request(kind: str, body: Any, settings: Settings, source=None) -> tuple[
             _check_cost(req, settings, None)
             return 200, run_bounded(contact_plan_from_request, req, settings, token=token)
         if source is None:
-            source = build_source(req.orbit)
+            source = orbit_source(req)  # Keplerian elements follow the request's zonal field
         _check_cost(req, settings, source)
         return 200, run_bounded(budget_from_request, req, settings, source, token=token)
     except PhysicsInputError as exc:

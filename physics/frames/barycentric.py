@@ -58,6 +58,26 @@ REFERENCE_FIT_POINTS_PER_DAY = 48
 """Samples per day of the lunar reference's own fit (a grid of its own, not the clock's panels)."""
 
 
+def _refuse_whole_body_switch_near_earth(gravity) -> None:
+    """A clock riding with the Earth keeps the Sun and Moon on in the BCRS.
+
+    In the BCRS a body's switch removes its whole potential at the clock (the Sun's is
+    GM_sun/(1 au c^2) = 9.9e-9, the Moon's 1.4e-13), while the reference scale keeps it by
+    definition (TT along the geocentre, TDB, TCB). Near the Earth the switch's meaning is the
+    GCRS one, the tidal part only; giving the other would shift the rate by up to ~850 us/day.
+    """
+    for body, on in (("sun", gravity.sun), ("moon", gravity.moon)):
+        if not on:
+            raise PhysicsInputError(
+                f"gravity.{body}", False,
+                f"for a clock riding with the Earth the barycentric frame would remove the {body}'s "
+                "whole potential from the clock but not from the reference scale (the Sun's is "
+                "9.9e-9 in rate): near the Earth only its tidal part can be switched off, in the "
+                "GCRS (frame \"GCRS\" with TT, TAI, GPS or TCG); against TCB, TDB or "
+                f"lunar_surface keep \"{body}\": true",
+            )
+
+
 class BarycentricFrame(Frame):
     name = "BCRS"
     coordinate_time = "TCB"
@@ -76,6 +96,8 @@ class BarycentricFrame(Frame):
         self.ss = solar_system_for(span)
         self.primary_term = bsrc.primary_term
         self.centre = source_centre(bsrc)
+        if self.centre == "earth":
+            _refuse_whole_body_switch_near_earth(gravity)
         self.position_base = POSITION_BASES.get(self.centre, "none")
         self.offers_eccentricity_correction = bool(getattr(bsrc, "offers_eccentricity_correction", True))
         self._y_ref = CONVENTIONAL_RATE_VS_TT.get(reference)

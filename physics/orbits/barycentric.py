@@ -81,30 +81,30 @@ class CentredKeplerianOrbit(BarycentricSource):
                  ra_of_asc_node_deg, arg_of_pericenter_deg, mean_anomaly_deg,
                  reference_plane: str = "icrf_equator"):
         if center not in CENTRES:
-            raise PhysicsInputError("orbit.center", center, "centre must be 'earth', 'sun', 'moon' or 'mars'")
+            raise PhysicsInputError("center", center, "centre must be 'earth', 'sun', 'moon' or 'mars'")
         gm, radius, term = CENTRES[center]
         a, e = float(semi_major_axis_m), float(eccentricity)
         if not 0.0 <= e < 1.0:
             raise PhysicsInputError(
-                "orbit.eccentricity", e,
+                "eccentricity", e,
                 f"eccentricity {e} is not elliptic (0 <= e < 1): hyperbolic or parabolic elements are "
                 f"not a closed orbit around the {center}",
             )
         if a * (1 + e) > MAX_APOAPSIS_M[center]:
             raise PhysicsInputError(
-                "orbit.semi_major_axis_km", a / 1e3,
+                "semi_major_axis_m", a,
                 f"apoapsis radius {a * (1 + e) / 1e3:.4g} km is beyond "
                 f"{MAX_APOAPSIS_M[center] / 1e3:.3g} km, where a two-body orbit around the {center} "
                 "is not a usable model",
             )
         if a * (1 - e) <= radius:
             raise PhysicsInputError(
-                "orbit.semi_major_axis_km", a / 1e3,
+                "semi_major_axis_m", a,
                 f"pericentre radius {a * (1 - e) / 1e3:.0f} km is inside the {center} "
                 f"(radius {radius / 1e3:.0f} km)",
             )
         if reference_plane not in ("icrf_equator", "ecliptic_j2000"):
-            raise PhysicsInputError("orbit.reference_plane", reference_plane,
+            raise PhysicsInputError("reference_plane", reference_plane,
                                     "reference_plane must be 'icrf_equator' or 'ecliptic_j2000'")
         self.center, self.gm, self.primary_term = center, gm, term
         self._epoch = epoch
@@ -153,12 +153,12 @@ class BodySurfaceClock(BarycentricSource):
 
     def __init__(self, center, latitude_deg, longitude_deg, height_m=0.0):
         if center not in _ROTATION:
-            raise PhysicsInputError("orbit.center", center, "surface clocks are supported on 'earth', "
+            raise PhysicsInputError("center", center, "surface clocks are supported on 'earth', "
                                     "'moon' and 'mars'")
         if not -90.0 <= latitude_deg <= 90.0:
-            raise PhysicsInputError("orbit.latitude_deg", latitude_deg, "latitude must lie in [-90, 90]")
+            raise PhysicsInputError("latitude_deg", latitude_deg, "latitude must lie in [-90, 90]")
         if not -10_000.0 <= height_m <= 30_000.0:
-            raise PhysicsInputError("orbit.height_m", height_m, f"height above the {center}'s mean sphere "
+            raise PhysicsInputError("height_m", height_m, f"height above the {center}'s mean sphere "
                                     "must lie in [-10000, 30000] m")
         self.center = center
         self.latitude_deg, self.longitude_deg, self.height_m = latitude_deg, longitude_deg, height_m

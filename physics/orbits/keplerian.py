@@ -82,18 +82,18 @@ class KeplerianOrbit(OrbitSource):
         a, e = float(semi_major_axis_m), float(eccentricity)
         if not math.isfinite(a) or a <= 0.0:
             raise PhysicsInputError(
-                "orbit.semi_major_axis_km", a / 1e3,
+                "semi_major_axis_m", a,
                 "the semi-major axis must be positive for an elliptic orbit around the Earth",
             )
         if not 0.0 <= e < 1.0:
             raise PhysicsInputError(
-                "orbit.eccentricity", e,
+                "eccentricity", e,
                 f"eccentricity {e} is not elliptic (0 <= e < 1); hyperbolic or parabolic "
                 "elements do not describe a clock bound to the Earth",
             )
         if a * (1.0 + e) > EARTH_HILL_RADIUS_M:
             raise PhysicsInputError(
-                "orbit.semi_major_axis_km", a / 1e3,
+                "semi_major_axis_m", a,
                 f"apogee radius {a * (1 + e) / 1e3:.4g} km is beyond the Earth's Hill sphere "
                 f"(~{EARTH_HILL_RADIUS_M / 1e3:.3g} km), where an Earth-centred two-body orbit is not "
                 "bound; give the orbit around the Sun (\"center\": \"sun\")",
@@ -101,20 +101,20 @@ class KeplerianOrbit(OrbitSource):
         rp = a * (1.0 - e)
         if rp <= EARTH_EQUATORIAL_RADIUS_M:
             raise PhysicsInputError(
-                "orbit.semi_major_axis_km", a / 1e3,
+                "semi_major_axis_m", a,
                 f"perigee radius {rp / 1e3:.0f} km is below the Earth's equatorial radius "
                 f"{EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km",
             )
-        check_perigee_altitude(rp, "orbit.semi_major_axis_km", a / 1e3)
+        check_perigee_altitude(rp, "semi_major_axis_m", a)
         if not 0.0 <= inclination_deg <= 180.0:
             raise PhysicsInputError(
-                "orbit.inclination_deg", inclination_deg, "inclination must lie in [0, 180] degrees"
+                "inclination_deg", inclination_deg, "inclination must lie in [0, 180] degrees"
             )
         if element_type not in ELEMENT_TYPES:
-            raise PhysicsInputError("orbit.element_type", element_type,
+            raise PhysicsInputError("element_type", element_type,
                                     f"element type must be one of {', '.join(ELEMENT_TYPES)}")
         if zonal_degree < 0 or zonal_degree == 1 or zonal_degree > MAX_ZONAL_DEGREE:
-            raise PhysicsInputError("gravity.earth_zonal_degree", zonal_degree,
+            raise PhysicsInputError("zonal_degree", zonal_degree,
                                     f"zonal degree must be 0 or 2..{MAX_ZONAL_DEGREE}")
         self._epoch = epoch
         self.a_m, self.e = a, e

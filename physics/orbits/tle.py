@@ -38,7 +38,7 @@ class TleOrbit(OrbitSource):
 
     def __init__(self, line1: str, line2: str, ts, name: str | None = None):
         line1, line2 = line1.rstrip(), line2.rstrip()
-        for field, line, number in (("orbit.line1", line1, "1"), ("orbit.line2", line2, "2")):
+        for field, line, number in (("line1", line1, "1"), ("line2", line2, "2")):
             if len(line) != 69 or not line.startswith(number + " "):
                 raise PhysicsInputError(
                     field, line,
@@ -51,20 +51,20 @@ class TleOrbit(OrbitSource):
                 )
         if line1[2:7] != line2[2:7]:
             raise PhysicsInputError(
-                "orbit.line2", line2,
+                "line2", line2,
                 f"catalogue numbers differ between line 1 ({line1[2:7]}) and line 2 ({line2[2:7]})",
             )
         try:
             self.sat = EarthSatellite(line1, line2, name or "clock", ts)
         except Exception as exc:  # sgp4 raises ValueError on malformed fields
-            raise PhysicsInputError("orbit.line1", line1, f"SGP4 cannot parse the TLE: {exc}") from exc
+            raise PhysicsInputError("line1", line1, f"SGP4 cannot parse the TLE: {exc}") from exc
         rec = self.sat.model
         if rec.error:
             raise PhysicsInputError(
-                "orbit.line2", line2, f"SGP4 rejects the elements: {SGP4_ERRORS[rec.error]}"
+                "line2", line2, f"SGP4 rejects the elements: {SGP4_ERRORS[rec.error]}"
             )
         if rec.no_kozai <= 0.0:
-            raise PhysicsInputError("orbit.line2", line2, "mean motion must be positive")
+            raise PhysicsInputError("line2", line2, "mean motion must be positive")
         self.line1, self.line2 = line1, line2
 
     @classmethod

@@ -32,8 +32,15 @@ def test_heliocentric_and_mars_samples_run(client):
 
 def test_earth_orbit_against_tdb_switches_to_bcrs(client, request_body):
     request_body["reference"] = "TDB"
+    # The example's point-mass switches are refused in the BCRS for an Earth clock
+    # (test_physical_limits_api.py); the Sun and Moon stay on there.
+    request_body["gravity"] = {"earth_zonal_degree": 0, "sun": True, "moon": True}
     b = client.post("/v1/budgets", json=request_body).json()
     assert b["frame"] == "BCRS"
+    # TT and TDB share their mean rate (IERS TN36 ch. 10): the GCRS answer against TT agrees.
+    request_body["reference"] = "TT"
+    gcrs = client.post("/v1/budgets", json=request_body).json()
+    assert abs(b["mean_fractional_rate"] - gcrs["mean_fractional_rate"]) < 1e-15
     request_body["reference"] = "TT"
     assert client.post("/v1/budgets", json=request_body).json()["frame"] == "GCRS"
 

@@ -62,3 +62,18 @@ def test_no_value_from_memory_reaches_a_user(client, request_body):
     assert "from memory" not in client.get("/v1/reference").text
     request_body["gravity"] = {"earth_zonal_degree": 2, "sun": False, "moon": False}
     assert "from memory" not in client.post("/v1/budgets", json=request_body).text
+
+
+def test_cli_table_labels_a_lunar_beacon_without_a_correction():
+    # Review: the table printed "after user correction" for a clock where no correction is offered,
+    # and said the position term was in the periodic part that the JSON leaves it out of.
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    sample = Path(__file__).resolve().parents[2] / "sample_orbits" / "lunar_beacon.json"
+    out = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "budget", str(sample)],
+                         capture_output=True, text=True, check=True).stdout
+    assert "not offered for this clock" in out
+    assert "after user correction" not in out and "after preset only" in out
+    assert "not in the periodic amplitude" in out

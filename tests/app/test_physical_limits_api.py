@@ -113,3 +113,26 @@ def test_repeated_query_parameter_is_refused(client, problem_of):
     problem = problem_of(client.get(url), 422)
     assert problem["errors"][0]["parameter"] == "semi_major_axis_km"
     assert "more than once" in problem["errors"][0]["detail"]
+
+
+@pytest.mark.parametrize("body", ["sun", "moon"])
+@pytest.mark.parametrize("reference,frame", [("TDB", "auto"), ("TT", "BCRS"), ("lunar_surface", "auto")])
+def test_body_switch_for_an_earth_clock_in_the_bcrs_is_refused(client, problem_of, body, reference, frame):
+    # Found by review: with the Sun off, a 7000 km orbit read +838.67 us/day against TDB where the
+    # GCRS (and TT, which shares TDB's mean rate: IERS TN36 ch. 10) gives -21.98 us/day: the BCRS
+    # switch removed GM_sun/(1 au c^2) = 9.87e-9 from the clock but not from the reference.
+    b = {"orbit": {"type": "keplerian", "center": "earth", "epoch": "2027-03-01T00:00:00Z",
+                   "semi_major_axis_km": 7000.0, "eccentricity": 0.001, "inclination_deg": 51.6},
+         "reference": reference, "frame": frame, "start": "2027-03-01T00:00:00Z", "duration_days": 2,
+         "gravity": {"earth_zonal_degree": 4, "sun": True, "moon": True}}
+    b["gravity"][body] = False
+    problem = problem_of(client.post("/v1/budgets", json=b), 422)
+    assert f"/gravity/{body}" in [e["pointer"] for e in problem["errors"]]
+    assert "tidal part" in problem["detail"]
+
+
+def test_huge_integer_literal_is_a_400_in_plain_words(client, problem_of):
+    # Review: a 5001-digit integer got Python's advice about sys.set_int_max_str_digits().
+    body = b'{"orbit": {"type": "keplerian", "semi_major_axis_km": ' + b"9" * 5001 + b"}}"
+    problem = problem_of(client.post("/v1/budgets", content=body), 400)
+    assert "5001 digits" in problem["detail"] and "sys." not in problem["detail"]

@@ -51,9 +51,9 @@ def test_series_layout_and_end_point(ts):
 @pytest.mark.parametrize(
     "a_km,e,field,words",
     [
-        (6100.0, 0.0, "orbit.semi_major_axis_km", "below the Earth's equatorial radius"),
-        (26561.4, 1.2, "orbit.eccentricity", "not elliptic"),
-        (8000.0, 0.3, "orbit.semi_major_axis_km", "perigee radius 5600 km"),
+        (6100.0, 0.0, "semi_major_axis_m", "below the Earth's equatorial radius"),
+        (26561.4, 1.2, "eccentricity", "not elliptic"),
+        (8000.0, 0.3, "semi_major_axis_m", "perigee radius 5600 km"),
     ],
 )
 def test_physical_input_errors_name_field_and_reason(ts, a_km, e, field, words):

@@ -149,10 +149,10 @@ def test_bad_element_type_and_degree_are_refused(ts):
     start = ts.utc(2027, 3, 1)
     with pytest.raises(PhysicsInputError) as err:
         KeplerianOrbit(start, 7000e3, 0.0, 0.0, 0, 0, 0, element_type="apparent")
-    assert err.value.field == "orbit.element_type"
+    assert err.value.field == "element_type"  # physics' own names; the app maps them to the request
     with pytest.raises(PhysicsInputError) as err:
         KeplerianOrbit(start, 7000e3, 0.0, 0.0, 0, 0, 0, zonal_degree=1)
-    assert err.value.field == "gravity.earth_zonal_degree"
+    assert err.value.field == "zonal_degree"
 
 
 def test_mean_elements_agree_with_the_state_vector_path_from_their_epoch_state(ts):
@@ -168,3 +168,42 @@ def test_mean_elements_agree_with_the_state_vector_path_from_their_epoch_state(t
     ours = compute_budget(BudgetInputs(kep, "TT", span, gravity)).secular_rate_per_tt_s
     numerical = compute_budget(BudgetInputs(num, "TT", span, gravity)).secular_rate_per_tt_s
     assert abs(ours - numerical) < MEAN_RATE_AGREEMENT
+
+
+# Highly eccentric orbits: the orbit averages that set the mean semi-major axis must resolve the
+# perigee passage. Outside reference: the perigee-to-perigee time (r.v = 0 crossing upwards) of
+# scipy's DOP853 integrating the same J2 field about the same pole from the same state. Uniform
+# samples in mean anomaly gave 10.2524 d against 10.1679 d at e = 0.95 (8e-3 off), 19.34 d
+# against 18.42 d at e = 0.97, and NaN speeds at e = 0.98. The first-order theory itself is
+# good to O(J2^2): 1e-5 leaves a margin of ~100 over the measured agreement (1e-7).
+ANOMALISTIC_PERIOD_RELATIVE = 1e-5
+
+
+@pytest.mark.parametrize("a_m, e", [(100_000e3, 0.9), (200_000e3, 0.95), (400_000e3, 0.98)])
+def test_highly_eccentric_period_follows_the_integration(ts, a_m, e):
+    from scipy.integrate import solve_ivp
+    from taubudget.physics.orbits.numerical import zonal_acceleration
+
+    start = ts.utc(2027, 3, 1)
+    kep = KeplerianOrbit(start, a_m, e, 51.6, 0.0, 0.0, 0.0, zonal_degree=2)
+    period = 2 * math.pi / kep.m_rate  # anomalistic, TT s (TCG differs by 7e-10)
+    pole = np.asarray(start.M, dtype=float)[2]  # the true pole of the epoch, in the GCRS
+    r0, v0, _ = elements_to_state(GM, a_m, e, math.radians(51.6), 0.0, 0.0, 0.0)
+
+    def rhs(_, y):
+        r = y[:3]
+        return np.concatenate([y[3:], -GM * r / np.linalg.norm(r) ** 3
+                               + zonal_acceleration(r[None], pole, 2)[0]])
+
+    def perigee(_, y):
+        return y[:3] @ y[3:]
+    perigee.direction = 1.0
+    sol = solve_ivp(rhs, (0.0, 1.5 * period), np.concatenate([r0[0], v0[0]]), method="DOP853",
+                    rtol=1e-12, atol=1e-6, events=perigee)
+    passages = sol.t_events[0][sol.t_events[0] > 0.5 * period]
+    assert abs(passages[0] / period - 1.0) < ANOMALISTIC_PERIOD_RELATIVE
+
+    span = Span(start, period)
+    t = np.linspace(0.0, period, 4001)
+    states = kep.states(span, t, environment_for(span).orientation)
+    assert np.isfinite(states.v_gcrs_m_per_s).all()

@@ -30,7 +30,7 @@ def test_bad_checksum_is_named():
     bad = LEO_TLE[0][:-1] + str((int(LEO_TLE[0][-1]) + 1) % 10)
     with pytest.raises(PhysicsInputError) as info:
         TleOrbit(bad, LEO_TLE[1], None)
-    assert info.value.field == "orbit.line1" and "checksum" in info.value.reason
+    assert info.value.field == "line1" and "checksum" in info.value.reason  # physics' own name
 
 
 def test_decay_mid_span_is_an_input_error(ts):
