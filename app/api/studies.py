@@ -305,7 +305,7 @@ async def submit_study(request: Request, settings: SettingsDep):
 @router.get("/studies", summary="List the studies, newest first", response_model=StudyList,
             responses={**_ok({"studies": [STATUS_EXAMPLE]}), **_problems(422, 503)})
 async def list_studies(request: Request, limit: Annotated[int, Query(ge=1, le=500)] = 100,
-                       offset: Annotated[int, Query(ge=0)] = 0):
+                       offset: Annotated[int, Query(ge=0, le=1_000_000_000)] = 0):
     """The studies in the store with their progress, newest first."""
     store = await _store(request)
 

@@ -204,3 +204,9 @@ def test_keplerian_items_follow_the_zonal_field_as_single_requests_do(study_clie
         single["orbit"]["semi_major_axis_km"] = r["parameters"]["orbit.semi_major_axis_km"]
         assert r["budget"] == c.post("/v1/budgets", json=single).json()
         assert "Brouwer" in r["budget"]["model"]["orbit"]["propagation"]
+
+
+def test_a_huge_list_offset_is_a_422_not_a_database_error(study_client, problem_of):
+    # Fuzzing found "Python int too large to convert to SQLite INTEGER" (a 500) for a huge offset.
+    p = problem_of(study_client.get("/v1/studies", params={"offset": 10**20}), 422)
+    assert "/offset" in json.dumps(p["errors"])
