@@ -5,7 +5,6 @@ from __future__ import annotations
 from typing import Annotated, Literal
 
 from fastapi import APIRouter, Query, Request
-from fastapi.responses import JSONResponse
 from pydantic import ValidationError
 
 from ..column_text import ColumnError, TooManyValues, parse_column
@@ -18,7 +17,7 @@ from ..problems import (
     validation_errors,
     validation_problem,
 )
-from ..schemas import EXAMPLE_STABILITY_REQUEST, StabilityRequest
+from ..schemas import EXAMPLE_STABILITY_REQUEST, StabilityRequest, StabilityResponse
 from ..services.stability import stability_from_data
 from . import openapi_doc as doc
 
@@ -85,9 +84,9 @@ def _from_text(text: str, query: dict, max_values: int) -> StabilityRequest:
 @router.post(
     "/clock-stability",
     summary="Frequency stability of measured clock data",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "StabilityResponse", "ADEV, OADEV, MDEV, TDEV, HDEV per tau",
-                            (400, 413, 422)),
+    response_model=StabilityResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("ADEV, OADEV, MDEV, TDEV, HDEV per tau", (400, 413, 422)),
     openapi_extra={"requestBody": {
         "required": True,
         "description": "JSON (StabilityRequest), or one column of numbers as text/plain, text/csv or a "
@@ -139,4 +138,4 @@ async def clock_stability(
             raise _invalid(validation_errors(exc, body)) from exc
     result = await compute(stability_from_data, req.data, req.data_type, req.sample_interval_s,
                                      req.confidence, settings)
-    return JSONResponse(result)
+    return result

@@ -27,18 +27,13 @@ def problem_responses(statuses) -> dict:
             for s in (*statuses, 500)}
 
 
-def responses(status: int, model: str, description: str, errors, example: dict | None = None) -> dict:
-    content: dict = {"schema": ref(model)}
-    if example is not None:
-        content["example"] = example
-    return {status: {"description": description, "content": {"application/json": content}},
-            **problem_responses(errors)}
-
-
-def model_responses(description: str, errors) -> dict:
+def model_responses(description: str, errors, example: dict | None = None) -> dict:
     """The 200 of a route with ``response_model`` (FastAPI generates its schema from the model, so
     the document shows what the route really returns) plus its problem responses."""
-    return {200: {"description": description}, **problem_responses(errors)}
+    ok: dict = {"description": description}
+    if example is not None:
+        ok["content"] = {"application/json": {"example": example}}
+    return {200: ok, **problem_responses(errors)}
 
 
 def _examples(examples: dict) -> dict:

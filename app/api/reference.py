@@ -11,12 +11,12 @@ import re
 
 import taubudget.physics.constants as constants_mod
 from fastapi import APIRouter
-from fastapi.responses import JSONResponse
 from taubudget.physics.budget import CAUTION
 from taubudget.physics.ephemeris import versions
 from taubudget.physics.rate import TERM_NAMES
 
 from ..deps import SettingsDep
+from ..schemas import ReferenceResponse
 from . import openapi_doc as doc
 
 router = APIRouter(prefix="/v1", tags=["reference"])
@@ -105,8 +105,9 @@ def _versions() -> dict[str, str]:
 @router.get(
     "/reference",
     summary="Constants, models, sources and versions",
-    response_class=JSONResponse,
-    responses=doc.responses(200, "ReferenceResponse", "What the numbers rest on", (), example={
+    response_model=ReferenceResponse,
+    response_model_exclude_unset=True,
+    responses=doc.model_responses("What the numbers rest on", (), example={
         "constants": [{"name": "L_G", "value": 6.969290134e-10,
                        "doc": "1 - d(TT)/d(TCG), dimensionless (defining; ...)"}],
         "sources": {"TN36": "IERS Conventions (2010), IERS Technical Note No. 36, ..."},
@@ -118,7 +119,7 @@ def _versions() -> dict[str, str]:
 async def reference(settings: SettingsDep):
     """The constants (with unit and source), models, published sources and library versions used."""
     limits = {k: v for k, v in settings.model_dump().items() if k.startswith("MAX_")}
-    return JSONResponse({
+    return {
         "constants": list(constants_table()), "sources": sources_table(), "models": MODELS,
         "versions": _versions(), "limits": limits, "caution": CAUTION,
-    })
+    }
