@@ -244,6 +244,19 @@ def render_json(content: Any) -> bytes:
     return "".join(out).encode("utf-8")
 
 
+async def checked_json_response(model, content: Any) -> Response:
+    """``content`` checked against the route's response ``model`` and rendered, both in a worker
+    thread. FastAPI would validate and encode an async route's return value on the event loop,
+    where a 20 MB series held the liveness probe; the route keeps ``response_model`` for its
+    OpenAPI schema, and the body is the presented dict exactly as before."""
+    def check_and_render() -> bytes:
+        model.model_validate(content)  # a ValidationError here is a server fault: a 500
+        return render_json(content)
+
+    body = await run_in_threadpool(check_and_render)
+    return Response(body, media_type="application/json")
+
+
 async def json_response(content: Any, status_code: int = 200) -> Response:
     """A JSON response rendered in a worker thread, in slices: a large budget or batch never
     holds the event loop (and the liveness probe) for the length of its encoding."""

@@ -15,7 +15,7 @@ from taubudget.physics.cancel import checkpoint
 from taubudget.physics.errors import PhysicsInputError
 
 from .. import csv_format
-from ..compute import ComputeDep
+from ..compute import ComputeDep, checked_json_response
 from ..deps import SettingsDep, parse_json
 from ..problems import (
     TYPE_CANCELLED,
@@ -95,6 +95,10 @@ def _parse_batch(raw: bytes) -> BatchRequest:
 )
 async def create_budget(request: Request, settings: SettingsDep, compute: ComputeDep):
     """Compute the drift budget of one clock against one reference over one span."""
+    return await checked_json_response(BudgetResponse, await _budget(request, settings, compute))
+
+
+async def _budget(request: Request, settings, compute) -> dict:
     if not uploads.is_multipart(request):
         req = await run_in_threadpool(_parse_budget, await request.body())
         return await compute(budget_from_request, req, settings)
@@ -109,10 +113,9 @@ async def create_budget(request: Request, settings: SettingsDep, compute: Comput
     except ValidationError as exc:
         raise uploads.upload_validation_problem(exc, body, parts) from exc
     try:
-        result = await compute(budget_from_request, req, settings)
+        return await compute(budget_from_request, req, settings)
     except PhysicsInputError as exc:
         raise uploads.upload_physics_problem(exc, parts) from exc
-    return result
 
 
 # --- Batch ---------------------------------------------------------------------------
@@ -179,7 +182,7 @@ async def create_batch(request: Request, settings: SettingsDep, compute: Compute
     result = await _batch(request, settings, compute)
     if "text/csv" in request.headers.get("accept", ""):
         return _batch_csv(result)
-    return result  # checked against BatchResponse
+    return await checked_json_response(BatchResponse, result)
 
 
 @router.post(
