@@ -23,11 +23,11 @@ from support.big_oem import circular_oem
 from support.server import ServerFailed, running_server
 
 SERVER_NICENESS = -10
-PROBE_LIMIT_S = 0.100  # the liveness bound, for the median probe
-PROBE_WORST_S = 2.0  # every probe: inside the 3 s probe timeout of deploy/k8s
-# Why not every probe under 100 ms: on the shared 2-core CI machine (load average 10 to 13) the
-# scheduler alone delays a process by up to a few hundred ms; with the machine otherwise idle
-# the worst probe was ~70 ms. Before the fix the probe stalled for tens of seconds.
+PROBE_LIMIT_S = 0.100  # the liveness bound, for 95 % of the probes
+PROBE_WORST_S = 1.0  # every probe: well inside the 3 s probe timeout of deploy/k8s
+# Why 95 % and not every probe under 100 ms: on a shared 2-core machine the scheduler alone can
+# delay a process by a few hundred ms. Measured with budgets and batches rendered off the loop:
+# worst probe 28-47 ms, median 6-10 ms (load average 3-4); before the fix it stalled for 37.7 s.
 DEADLINE_S = 6.0
 HEADER_TIMEOUT_S = 1.0
 QUEUE_WAIT_S = 2.0
@@ -103,7 +103,7 @@ def test_healthz_stays_fast_under_a_worst_case_batch_and_a_deadline(server):
     assert slow_s < DEADLINE_S + 3.0  # stopped soon after the deadline, not after ~20 s
     assert len(latencies) > 20
     ordered = sorted(latencies)
-    assert ordered[len(ordered) // 2] < PROBE_LIMIT_S, ordered[-5:]
+    assert ordered[(95 * len(ordered)) // 100] < PROBE_LIMIT_S, ordered[-5:]
     assert ordered[-1] < PROBE_WORST_S, ordered[-5:]
 
 
