@@ -37,6 +37,7 @@ from taubudget.physics.frames.choose import choose_frame
 from taubudget.physics.orbits.numerical import NumericalOrbit
 from taubudget.physics.quadrature import NODES_PER_PANEL
 
+from .present.budget import utc_time
 from .problems import TYPE_BUSY, TYPE_CANCELLED, TYPE_DEADLINE, ProblemError
 
 DISCONNECT_POLL_S = 0.25
@@ -113,7 +114,7 @@ def check_cost(cost: Cost, settings, source=None, span=None, span_field: str = "
 def _refuse_numerical(revolutions: float, source, span, settings):
     in_span = span.duration_s / source.period_s()
     to_span = revolutions - in_span
-    field, value = ((f"{source.field_prefix}.epoch", source.describe()["epoch_utc"]) if to_span > in_span
+    field, value = ((f"{source.field_prefix}.epoch", utc_time(source.epoch())) if to_span > in_span
                     else ("end", round(span.duration_s / SECONDS_PER_DAY, 6)))
     raise PhysicsInputError(
         field, value,

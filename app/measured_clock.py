@@ -32,6 +32,7 @@ from taubudget.physics.span import Span
 from .formats import FormatError, build_format_source
 from .formats.files import orbit_from_file
 from .formats.models import TEXT_ORBITS
+from .present.budget import orbit as present_orbit
 from .present.budget import utc1
 from .present.residuals import residuals as present_residuals
 
@@ -137,7 +138,7 @@ def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: 
     out = {
         "sat": sat_id.strip().upper(),
         "clock_file": {"kind": kind, "label": label, "points": int(len(times))},
-        "orbit": source.describe(),
+        "orbit": present_orbit(source.describe()),
         "epochs_without_orbit": int(np.count_nonzero(states.code != 0)),
         "start_utc": utc1(span, 0.0),
         "periodic_term_in_data": bool(periodic_term_in_data),

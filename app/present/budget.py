@@ -49,6 +49,42 @@ def utc1(span: Span, t_s: float) -> str:
     return span.utc_iso(t_s)[0]
 
 
+UTC_US = "%Y-%m-%dT%H:%M:%S.%fZ"
+UTC_S = "%Y-%m-%dT%H:%M:%SZ"
+
+_ORBIT_KM = {"mean_semi_major_axis_m": "mean_semi_major_axis_km",
+             "osculating_semi_major_axis_m": "osculating_semi_major_axis_km"}
+_ORBIT_NS = {"max_periodic_term_s": "max_periodic_term_ns"}
+_ORBIT_TIMES = {"epoch": ("epoch_utc", UTC_US), "tle_epoch": ("tle_epoch_utc", UTC_US),
+                "start": ("start_utc", UTC_S), "stop": ("stop_utc", UTC_S)}
+"""An orbit source's ``describe()`` keys (SI, skyfield Times) -> the response's keys and units."""
+
+
+def utc_time(t, fmt: str = UTC_US) -> str:
+    """A skyfield Time as ISO 8601 UTC text (trailing Z)."""
+    return t.utc_strftime(fmt)
+
+
+def orbit(described: dict) -> dict:
+    """An orbit source's SI description -> the response's ``model.orbit`` block (km, ns, UTC text)."""
+    out = {}
+    for key, value in described.items():
+        if key in _ORBIT_KM:
+            out[_ORBIT_KM[key]] = float(value) / 1e3
+        elif key in _ORBIT_NS:
+            out[_ORBIT_NS[key]] = ns(value)
+        elif key in _ORBIT_TIMES and hasattr(value, "utc_strftime"):
+            name, fmt = _ORBIT_TIMES[key]
+            out[name] = utc_time(value, fmt)
+        elif isinstance(value, dict):
+            out[key] = orbit(value)
+        elif isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
+            out[key] = [orbit(v) for v in value]
+        else:
+            out[key] = value
+    return out
+
+
 def omitted_terms(terms: Iterable[OmittedTerm]) -> list[dict]:
     return [{"term": t.name, "size_fractional": float(t.size_fractional), "note": t.note} for t in terms]
 
@@ -59,7 +95,7 @@ def request_reference(reference):
         return reference
     if hasattr(reference, "model_dump"):
         return reference.model_dump()
-    return reference.describe()  # a physics source, when a caller passes the result's own reference
+    return orbit(reference.describe())  # a physics source, when a caller passes the result's own reference
 
 
 def _series(b: BudgetResult) -> dict | None:
@@ -126,7 +162,8 @@ def budget(b: BudgetResult, reference) -> dict:
         "nodes_used": b.integration.nodes_used,
         "panels_used": b.integration.panels_used,
         "frame": b.frame,
-        "model": {**b.model, "omitted_terms": omitted},
+        "model": {**b.model, **({"orbit": orbit(b.model["orbit"])} if "orbit" in b.model else {}),
+                  "omitted_terms": omitted},
         "omitted_terms": omitted,
     }
     if b.position_term is not None:

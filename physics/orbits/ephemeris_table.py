@@ -187,15 +187,16 @@ class EphemerisTable(OrbitSource):
     def period_s(self) -> float | None:
         return self._period_s
 
+    def coverage(self) -> list:
+        """Start and end (skyfield Time, two elements) of each segment."""
+        return [self.reference_time.ts.tt_jd(
+            self.reference_time.whole,
+            self.reference_time.tt_fraction + np.array([seg.start_s, seg.stop_s]) / SECONDS_PER_DAY,
+        ) for seg in self.segments]
+
     def coverage_utc(self) -> list[tuple[str, str]]:
-        out = []
-        for seg in self.segments:
-            t = self.reference_time.ts.tt_jd(
-                self.reference_time.whole,
-                self.reference_time.tt_fraction + np.array([seg.start_s, seg.stop_s]) / SECONDS_PER_DAY,
-            )
-            out.append(tuple(s.replace(" ", "T") for s in t.utc_strftime("%Y-%m-%dT%H:%M:%SZ")))
-        return out
+        return [tuple(s.replace(" ", "T") for s in t.utc_strftime("%Y-%m-%dT%H:%M:%SZ"))
+                for t in self.coverage()]
 
     def _which_segment(self, t_tab: np.ndarray, span, t_s) -> np.ndarray:
         which = np.full(t_tab.shape, -1)
@@ -271,9 +272,9 @@ class EphemerisTable(OrbitSource):
 
     def describe(self) -> dict:
         segs = [
-            {"start_utc": a, "stop_utc": b, "points": int(len(s.t_s)), "interpolation": s.interpolation,
+            {"start": t[0], "stop": t[1], "points": int(len(s.t_s)), "interpolation": s.interpolation,
              "degree": int(s.degree), "velocities": s.v_gcrs_m_per_s is not None}
-            for s, (a, b) in zip(self.segments, self.coverage_utc(), strict=True)
+            for s, t in zip(self.segments, self.coverage(), strict=True)
         ]
         return {
             "type": self.kind,
@@ -287,6 +288,6 @@ class EphemerisTable(OrbitSource):
                 "max_position_m": self.max_position_error_m,
                 "max_velocity_m_per_s": self.max_velocity_error_m_per_s,
                 "max_fractional_rate": self.max_rate_error_fractional,
-                "max_periodic_term_ns": self.max_periodic_error_s * 1e9,
+                "max_periodic_term_s": self.max_periodic_error_s,
             },
         }

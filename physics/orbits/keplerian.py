@@ -278,7 +278,7 @@ class KeplerianOrbit(OrbitSource):
                 + "; J3..Jn short-period terms, the Sun and the Moon do not shape the orbit"
             )
             out["element_theory"] = THEORY_NAME
-            out["mean_semi_major_axis_km"] = el.a_m / 1e3
+            out["mean_semi_major_axis_m"] = el.a_m
             out["mean_eccentricity"] = el.e
             out["mean_inclination_to_true_equator_deg"] = math.degrees(el.i_rad)
         return out

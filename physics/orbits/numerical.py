@@ -392,8 +392,8 @@ class NumericalOrbit(OrbitSource):
             "source": self.label,
             "propagation": f"numerical (scipy DOP853, rtol {RTOL:g}) in the GCRS with TCG, forces: "
             + ", ".join(forces) + "; no drag, radiation pressure or tesseral terms",
-            "epoch_utc": self._epoch.utc_strftime("%Y-%m-%dT%H:%M:%S.%fZ"),
-            "osculating_semi_major_axis_km": self.a_m / 1e3,
+            "epoch": self._epoch,
+            "osculating_semi_major_axis_m": self.a_m,
             "osculating_eccentricity": self.e,
             "osculating_inclination_deg": math.degrees(self.i_rad),
             "period_s": self.period_s(),

@@ -110,6 +110,6 @@ class TleOrbit(OrbitSource):
             "propagation": "SGP4 (sgp4 package, WGS-72 constants), TEME -> GCRS by skyfield",
             "satellite_number": self.sat.model.satnum_str
             if hasattr(self.sat.model, "satnum_str") else str(self.sat.model.satnum),
-            "tle_epoch_utc": self.sat.epoch.utc_strftime("%Y-%m-%dT%H:%M:%S.%fZ"),
+            "tle_epoch": self.sat.epoch,
             "period_s": self.period_s(),
         }
