@@ -256,10 +256,3 @@ async def checked_json_response(model, content: Any) -> Response:
 
     body = await run_in_threadpool(check_and_render)
     return Response(body, media_type="application/json")
-
-
-async def json_response(content: Any, status_code: int = 200) -> Response:
-    """A JSON response rendered in a worker thread, in slices: a large budget or batch never
-    holds the event loop (and the liveness probe) for the length of its encoding."""
-    body = await run_in_threadpool(render_json, content)
-    return Response(body, status_code=status_code, media_type="application/json")
