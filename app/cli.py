@@ -19,6 +19,7 @@ from pydantic import ValidationError
 from taubudget.physics.errors import PhysicsInputError
 
 from .input_hints import hint, json_decimal_comma_hint
+from .present.errors import shown
 
 
 def _load_json(path: str):
@@ -254,7 +255,8 @@ def _print_json(obj) -> None:
 
 def _physics_failure(exc: PhysicsInputError, what: str) -> int:
     """Print a physics input error naming the field, value and reason; the exit code for bad input."""
-    print(f"{what}: {exc.field} = {exc.value!r}: {exc.reason}", file=sys.stderr)
+    field, value, reason = shown(exc)
+    print(f"{what}: {field} = {value!r}: {reason}", file=sys.stderr)
     return 2
 
 
@@ -459,9 +461,10 @@ def cmd_clock_residuals(args) -> int:
             clock_text, orbit_text, args.sat, periodic_term_in_data=args.periodic_term_in_data,
             orbit_type=args.orbit_type, orbit_object_id=args.orbit_object_id)
     except PhysicsInputError as exc:
-        name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get(exc.field)
-        where = f"{exc.field} {name}" if name else exc.field
-        print(f"invalid input: {where}: {exc.reason}", file=sys.stderr)
+        field, _, reason = shown(exc)
+        name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get(field)
+        where = f"{field} {name}" if name else field
+        print(f"invalid input: {where}: {reason}", file=sys.stderr)
         return 2
     if args.json:
         _print_json(result)

@@ -37,7 +37,6 @@ from taubudget.physics.frames.choose import choose_frame
 from taubudget.physics.orbits.numerical import NumericalOrbit
 from taubudget.physics.quadrature import NODES_PER_PANEL
 
-from .present.budget import utc_time
 from .problems import TYPE_BUSY, TYPE_CANCELLED, TYPE_DEADLINE, ProblemError
 
 DISCONNECT_POLL_S = 0.25
@@ -88,7 +87,7 @@ def check_cost(cost: Cost, settings, source=None, span=None, span_field: str = "
     sets the span length ("end" or "duration_days")."""
     revolutions = cost.numerical_revolutions
     if revolutions is not None and revolutions > settings.MAX_NUMERICAL_REVOLUTIONS:
-        _refuse_numerical(revolutions, source, span, settings)
+        _refuse_numerical(revolutions, source, span, settings, span_field)
     if cost.nodes > settings.MAX_NODES:
         days = span.duration_s / SECONDS_PER_DAY if span is not None else None
         raise PhysicsInputError(
@@ -111,19 +110,19 @@ def check_cost(cost: Cost, settings, source=None, span=None, span_field: str = "
         )
 
 
-def _refuse_numerical(revolutions: float, source, span, settings):
+def _refuse_numerical(revolutions: float, source, span, settings, span_field: str = "end"):
     in_span = span.duration_s / source.period_s()
     to_span = revolutions - in_span
-    field, value = ((f"{source.field_prefix}.epoch", utc_time(source.epoch())) if to_span > in_span
-                    else ("end", round(span.duration_s / SECONDS_PER_DAY, 6)))
-    raise PhysicsInputError(
-        field, value,
-        f"a state-vector orbit is integrated numerically from its epoch: an estimated "
-        f"{revolutions:.0f} revolutions ({to_span:.0f} from the epoch to the span, {in_span:.0f} "
-        f"over it), above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
-        "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); give a state nearer the span, shorten the span, "
-        "or give mean elements (TLE/OMM)",
-    )
+    # The epoch is the source's own parameter (a Time): the caller's ``request_terms`` names the
+    # request block that gave it (a state vector's epoch, an OPM's text).
+    field, value = (("epoch", source.epoch()) if to_span > in_span
+                    else (span_field, round(span.duration_s / SECONDS_PER_DAY, 6)))
+    reason = (f"a state-vector orbit is integrated numerically from its epoch: an estimated "
+              f"{revolutions:.0f} revolutions ({to_span:.0f} from the epoch to the span, {in_span:.0f} "
+              f"over it), above this service's limit of {settings.MAX_NUMERICAL_REVOLUTIONS} "
+              "(TAUBUDGET_MAX_NUMERICAL_REVOLUTIONS); give a state nearer the span, shorten the span, "
+              "or give mean elements (TLE/OMM)")
+    raise PhysicsInputError(field, value, reason, source=source if field == "epoch" else None)
 
 
 # --- 3.: run -----------------------------------------------------------------------------------

@@ -35,6 +35,7 @@ from .formats.models import TEXT_ORBITS
 from .present.budget import orbit as present_orbit
 from .present.budget import utc1
 from .present.residuals import residuals as present_residuals
+from .services.request_terms import request_terms
 
 PERIODIC_TERM_IN_DATA_DEFAULT = False
 """IGS convention: clock products exclude the periodic term (Kouba 2004, abstract)."""
@@ -100,7 +101,7 @@ def _orbit_source(orbit_text: str, object_id: str, orbit_type: str | None):
         orbit_in = model.model_validate(orbit, strict=False)  # options given as text
     except ValidationError as exc:
         raise PhysicsInputError("orbit_file", None, exc.errors()[0]["msg"]) from exc
-    return build_format_source(orbit_in, "orbit_file")
+    return build_format_source(orbit_in, "orbit_file"), orbit_in
 
 
 def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: str, *,
@@ -122,7 +123,7 @@ def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: 
                                     "orbit file (SP3, OEM, OPM, OMM or TLE)")
         orbit_text = clock_text
     try:
-        source = _orbit_source(orbit_text, orbit_object_id or sat_id.strip().upper(), orbit_type)
+        source, orbit_in = _orbit_source(orbit_text, orbit_object_id or sat_id.strip().upper(), orbit_type)
     except FormatError as exc:
         raise exc.to_physics("orbit_file") from None
     if len(times) < 3:
@@ -131,10 +132,14 @@ def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: 
     span0 = Span(start, 1.0)
     t_s = span0.seconds_after_start(times)
     span = Span(start, max(float(t_s[-1]), 1.0))
-    states = source.states(span, t_s, environment_for(span).orientation)
-    result = clock_residuals(t_s, offset_s, states.r_gcrs_m, states.v_gcrs_m_per_s,
-                             periodic_term_in_data=periodic_term_in_data,
-                             orbital_period_s=source.period_s(), field="clock_file")
+    with request_terms((source, "orbit_file", orbit_in)):
+        states = source.states(span, t_s, environment_for(span).orientation)
+    try:
+        result = clock_residuals(t_s, offset_s, states.r_gcrs_m, states.v_gcrs_m_per_s,
+                                 periodic_term_in_data=periodic_term_in_data,
+                                 orbital_period_s=source.period_s())
+    except PhysicsInputError as exc:  # about the clock values: the clock file
+        raise PhysicsInputError("clock_file", exc.value, exc.reason) from None
     out = {
         "sat": sat_id.strip().upper(),
         "clock_file": {"kind": kind, "label": label, "points": int(len(times))},

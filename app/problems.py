@@ -32,6 +32,7 @@ from starlette.exceptions import HTTPException as StarletteHTTPException
 from taubudget.physics.errors import PhysicsInputError
 
 from .input_hints import hint
+from .present.errors import shown
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 
@@ -182,12 +183,13 @@ def validation_problem(errors: list[dict], what: str = "The request") -> dict:
 
 
 def physics_problem(exc: PhysicsInputError, prefix: str = "") -> dict:
-    ptr = dotted_to_pointer(exc.field, prefix)
-    where = exc.field or "the request"
-    shown = "" if exc.value is None else f" ({where} = {exc.value!r})"
-    detail = f"{exc.reason[:1].upper()}{exc.reason[1:]}{shown}."
+    field, value, reason = shown(exc)
+    ptr = dotted_to_pointer(field, prefix)
+    where = field or "the request"
+    given = "" if value is None else f" ({where} = {value!r})"
+    detail = f"{reason[:1].upper()}{reason[1:]}{given}."
     return problem(422, "Physically unusable input", detail, TYPE_PHYSICALLY_INVALID,
-                   [{"pointer": ptr, "detail": exc.reason}])
+                   [{"pointer": ptr, "detail": reason}])
 
 
 # --- Exception handlers ---------------------------------------------------------------

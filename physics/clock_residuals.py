@@ -56,14 +56,16 @@ class ClockResiduals:
 
 
 def clock_residuals(t_s, clock_offset_s, r_m, v_m_per_s, *, periodic_term_in_data: bool,
-                    orbital_period_s: float | None = None, field: str = "clock") -> ClockResiduals:
+                    orbital_period_s: float | None = None) -> ClockResiduals:
     """Separate the relativistic periodic term and a secular line from measured clock offsets.
 
     ``t_s``: (N,) reference-time seconds (any origin, increasing); ``clock_offset_s``: (N,)
     clock minus reference, s; ``r_m``, ``v_m_per_s``: (N, 3) states at the epochs (GCRS, or
     Earth-fixed: r.v is the same). ``periodic_term_in_data``: whether the offsets still
     contain -(2/c^2) r.v (raw measurements) or not (IGS convention); see the module docstring.
+    Errors name ``clock_offset_s`` (the caller maps it to where the data came from).
     """
+    field = "clock_offset_s"
     t = np.asarray(t_s, dtype=float)
     x = np.asarray(clock_offset_s, dtype=float)
     r = np.asarray(r_m, dtype=float)

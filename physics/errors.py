@@ -6,6 +6,12 @@ bare name with no dot. app/ maps those to the request's field and unit (app/serv
 ``request_error``: ``orbit.semi_major_axis_km`` = 6000.0) and turns the error into a problem+json
 422 with a JSON pointer. A dotted name (``orbit.text``, ``series_step_s`` ...) or a top-level
 request field (``orbit``, ``start``, ``end``) is already the request's path.
+
+Errors raised while a source is evaluated (an ephemeris that does not cover the span, a numerical
+propagation too long) carry ``source``, the orbit source that raised them, so the app knows which
+request block (the clock's orbit, a reference clock, a link station) they concern. An error about
+an instant carries it in ``at`` (a skyfield Time) and a ``value`` may be a skyfield Time: physics
+writes no calendar text; the app writes both in UTC.
 """
 
 from __future__ import annotations
@@ -14,8 +20,10 @@ from __future__ import annotations
 class PhysicsInputError(ValueError):
     """Well-formed input that is physically unusable (perigee inside the Earth, ...)."""
 
-    def __init__(self, field: str, value, reason: str):
+    def __init__(self, field: str, value, reason: str, *, source=None, at=None):
         super().__init__(reason)
         self.field = field
         self.value = value
         self.reason = reason
+        self.source = source
+        self.at = at

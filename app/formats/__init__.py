@@ -30,18 +30,19 @@ __all__ = ["FormatError", "FORMAT_ORBITS", "TEXT_ORBITS", "build_format_source",
            "OmmOrbitIn", "OpmOrbitIn", "OemOrbitIn", "Sp3OrbitIn", "TleFileOrbitIn", "StateVectorOrbitIn"]
 
 
-def _in_text(exc: PhysicsInputError, prefix: str) -> PhysicsInputError:
-    """A source's error naming its own parameter (``line1``, ...) points at the file's text."""
-    if exc.field is None or "." in exc.field:
-        return exc
-    return PhysicsInputError(f"{prefix}.text", None, f"{exc.field}: {exc.reason}")
+def request_error(exc: PhysicsInputError, prefix: str, orbit) -> PhysicsInputError:
+    """app/services/request_terms.request_error, imported when needed (the schemas import this
+    package's models, and request_terms imports the schemas)."""
+    from ..services.request_terms import request_error as in_request_terms
+
+    return in_request_terms(exc, prefix, orbit)
 
 
-def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn, prefix: str, label: str):
+def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn, label: str):
     from taubudget.physics.orbits.numerical import NumericalOrbit
 
     return NumericalOrbit(epoch, r_m, v_m_per_s, force.earth_zonal_degree, force.sun, force.moon,
-                          field_prefix=prefix, label=label)
+                          label=label)
 
 
 def _omm_sources(orbit: OmmOrbitIn, prefix: str):
@@ -98,7 +99,7 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
             else:  # the header's order, then any satellite with records but no header entry
                 ids = [s for s in sp3.satellites if s in sp3.positions_km]
                 ids += sorted(set(sp3.positions_km) - set(ids))
-            return [(sid, sp3_source(sp3, sid, orbit.interpolation_degree, f"{prefix}.text")) for sid in ids]
+            return [(sid, sp3_source(sp3, sid, orbit.interpolation_degree)) for sid in ids]
         if isinstance(orbit, OpmOrbitIn):
             from .opm import parse_opm
 
@@ -107,11 +108,11 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
         if isinstance(orbit, OemOrbitIn) and orbit.object_id is None:
             from .oem import oem_object_ids, parse_oem
 
-            return [(oid, parse_oem(orbit.text, oid, f"{prefix}.text")) for oid in oem_object_ids(orbit.text)]
+            return [(oid, parse_oem(orbit.text, oid)) for oid in oem_object_ids(orbit.text)]
     except FormatError as exc:
         raise exc.to_physics(f"{prefix}.text") from None
     except PhysicsInputError as exc:
-        raise _in_text(exc, prefix) from None
+        raise request_error(exc, prefix, orbit) from None
     return [("1", build_format_source(orbit, prefix))]
 
 
@@ -121,7 +122,7 @@ def build_format_source(orbit, prefix: str = "orbit"):
         if isinstance(orbit, StateVectorOrbitIn):
             t = timescale().from_datetime(orbit.epoch)
             return _numerical(t, np.array(orbit.position_gcrs_km) * 1e3,
-                              np.array(orbit.velocity_gcrs_km_per_s) * 1e3, orbit.force_model, prefix,
+                              np.array(orbit.velocity_gcrs_km_per_s) * 1e3, orbit.force_model,
                               "state vector (GCRS)")
         if isinstance(orbit, OpmOrbitIn):
             from .opm import parse_opm
@@ -130,18 +131,18 @@ def build_format_source(orbit, prefix: str = "orbit"):
             if orbit.object_id is not None and orbit.object_id not in (st.object_id, st.object_name):
                 raise FormatError(None, "OBJECT_ID",
                                   f"the OPM describes {st.object_id!r}, not {orbit.object_id!r}")
-            return _numerical(st.epoch, st.r_gcrs_m, st.v_gcrs_m_per_s, orbit.force_model, prefix,
+            return _numerical(st.epoch, st.r_gcrs_m, st.v_gcrs_m_per_s, orbit.force_model,
                               f"OPM {st.object_name} ({st.object_id}), {st.frame} -> GCRS")
         if isinstance(orbit, OemOrbitIn):
             from .oem import parse_oem
 
-            return parse_oem(orbit.text, orbit.object_id, f"{prefix}.text")
+            return parse_oem(orbit.text, orbit.object_id)
         if isinstance(orbit, OmmOrbitIn):
             return _pick(_omm_sources(orbit, prefix), orbit.object_id, "OMM")[2]
     except FormatError as exc:
         raise exc.to_physics(f"{prefix}.text") from None
     except PhysicsInputError as exc:
-        raise _in_text(exc, prefix) from None
+        raise request_error(exc, prefix, orbit) from None
     if isinstance(orbit, TleFileOrbitIn | Sp3OrbitIn):
         found = format_sources(orbit, prefix)
         if len(found) > 1:

@@ -73,7 +73,7 @@ def _segments(items: list[Item]):
     return header, segs
 
 
-def parse_oem(text: str, object_id: str | None = None, field: str = "orbit.text") -> EphemerisTable:
+def parse_oem(text: str, object_id: str | None = None) -> EphemerisTable:
     """An EphemerisTable (GCRS) from an OEM; ``object_id`` picks one object when several appear."""
     is_xml = text.lstrip().startswith("<")
     if is_xml:
@@ -170,7 +170,7 @@ def parse_oem(text: str, object_id: str | None = None, field: str = "orbit.text"
     if not any(mk.has("INTERPOLATION") for mk, _, _ in (parsed[i] for i in chosen)):
         label += (f"; no INTERPOLATION given, {DEFAULT_INTERPOLATION[0]} degree "
                   f"{DEFAULT_INTERPOLATION[1]} used")
-    return EphemerisTable(ref, segments, label=label, field=field)
+    return EphemerisTable(ref, segments, label=label)
 
 
 def _seconds(times, ref) -> np.ndarray:

@@ -180,7 +180,7 @@ def select_satellite(sp3: Sp3, sat_id: str | None) -> str:
     return sid
 
 
-def sp3_source(sp3: Sp3, sat_id: str, degree: int = DEFAULT_DEGREE, field: str = "orbit.text"):
+def sp3_source(sp3: Sp3, sat_id: str, degree: int = DEFAULT_DEGREE):
     """An EphemerisTable in the GCRS for one satellite; gaps split the data into segments."""
     pos = sp3.positions_km[sat_id]
     ok = np.all(np.isfinite(pos), axis=1)
@@ -206,7 +206,7 @@ def sp3_source(sp3: Sp3, sat_id: str, degree: int = DEFAULT_DEGREE, field: str =
                                 degree=min(degree, part.size - 1),
                                 label=f"SP3 {sat_id}, {sp3.coordinate_system} -> GCRS"))
     return EphemerisTable(ref, segments, label=f"SP3-{sp3.version} {sat_id} ({sp3.coordinate_system}, "
-                          f"{sp3.time_system}), Lagrange degree {degree}", field=field)
+                          f"{sp3.time_system}), Lagrange degree {degree}")
 
 
 def clock_series(sp3: Sp3, sat_id: str):

@@ -19,6 +19,7 @@ from ..schemas import BudgetRequest, SurfaceClockIn
 from ..settings import Settings, get_settings
 from .clock import clock_error, clock_model
 from .orbits import _time, build_source
+from .request_terms import request_error, request_terms
 
 
 def build_span(req: BudgetRequest, settings: Settings) -> Span:
@@ -60,7 +61,8 @@ def planned_cost(req: BudgetRequest, settings: Settings, source, reference, span
     cost = estimate_cost(source, reference, span, req.series_step_s,
                          None if req.frame == "auto" else req.frame, clock=req.clock is not None,
                          link_station=req.link_station is not None)
-    check_cost(cost, settings, source, span, "end" if req.end is not None else "duration_days")
+    with request_terms((source, "orbit", req.orbit)):  # a state vector's epoch, an OPM's text
+        check_cost(cost, settings, source, span, "end" if req.end is not None else "duration_days")
     return cost
 
 
@@ -91,8 +93,18 @@ def _link_station(req: BudgetRequest):
         return None
     if st.center != "earth":
         raise PhysicsInputError("link_station.center", st.center, "the link station must be on the Earth")
-    return SurfaceClock(st.latitude_deg, st.longitude_deg, st.height_m, st.geoid_undulation_m,
-                        st.orthometric_height_m, field_prefix="link_station")
+    try:
+        return SurfaceClock(st.latitude_deg, st.longitude_deg, st.height_m, st.geoid_undulation_m,
+                            st.orthometric_height_m)
+    except PhysicsInputError as exc:
+        raise request_error(exc, "link_station", st) from None
+
+
+def evaluated(req: BudgetRequest, inputs: budget_mod.BudgetInputs):
+    """A context in which errors raised while the sources are evaluated (an ephemeris that does not
+    cover the span, a propagation too long) name the request block of the source that raised them."""
+    return request_terms((inputs.source, "orbit", req.orbit), (inputs.reference, "reference", req.reference),
+                         (inputs.link_station, "link_station", req.link_station))
 
 
 def budget_from_request(req: BudgetRequest, settings: Settings | None = None, source=None) -> dict:
@@ -112,7 +124,8 @@ def budget_from_request(req: BudgetRequest, settings: Settings | None = None, so
     if req.monte_carlo_runs is not None and req.time_error_budget_ns is None:
         raise PhysicsInputError("monte_carlo_runs", req.monte_carlo_runs,
                                 "a Monte Carlo exceedance needs time_error_budget_ns")
-    result = budget_mod.compute_budget(inputs)
+    with evaluated(req, inputs):
+        result = budget_mod.compute_budget(inputs)
     out = present_budget(result, req.reference)
     if model is not None:
         out["clock_error"] = clock_error(req, result, model)
@@ -160,4 +173,6 @@ def budget_result(request, settings: Settings | None = None):
     ``BudgetRequest``: the same validation and limits as ``POST /v1/budgets``, no presentation.
     Raises pydantic's ``ValidationError`` or ``PhysicsInputError`` for unusable input."""
     req = request if isinstance(request, BudgetRequest) else BudgetRequest.model_validate(request)
-    return budget_mod.compute_budget(budget_inputs(req, settings))
+    inputs = budget_inputs(req, settings)
+    with evaluated(req, inputs):
+        return budget_mod.compute_budget(inputs)

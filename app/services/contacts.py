@@ -30,13 +30,21 @@ from taubudget.physics.errors import PhysicsInputError
 from ..present import contacts as present_contacts
 from ..schemas.contacts import MAX_PASSES, ContactPlanRequest
 from ..settings import Settings, get_settings
-from .budget import budget_inputs
+from .budget import budget_inputs, evaluated
 from .clock import clock_model
+from .request_terms import request_error
+
+
+def _station(s, i: int) -> GroundStation:
+    try:
+        return GroundStation(s.name, s.latitude_deg, s.longitude_deg, s.height_m, s.elevation_mask_deg,
+                             s.geoid_undulation_m)
+    except PhysicsInputError as exc:
+        raise request_error(exc, f"stations.{i}", s) from None
 
 
 def _stations(req: ContactPlanRequest) -> list[GroundStation]:
-    return [GroundStation(s.name, s.latitude_deg, s.longitude_deg, s.height_m, s.elevation_mask_deg,
-                          s.geoid_undulation_m) for s in req.stations]
+    return [_station(s, i) for i, s in enumerate(req.stations)]
 
 
 def _residual_fn(budget, which: str):
@@ -58,11 +66,12 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
             "state vectors and Earth-orbit files)",
         )
     inputs.series_step_s = None  # the plan does not need the budget's series
-    budget = compute_budget(inputs)
-    span, src = inputs.span, inputs.source
-    env = environment_for(span)
     stations = _stations(req)
-    passes = find_passes(src, span, stations, env.orientation)
+    with evaluated(req, inputs):
+        budget = compute_budget(inputs)
+        span, src = inputs.span, inputs.source
+        env = environment_for(span)
+        passes = find_passes(src, span, stations, env.orientation)
     if len(passes) > MAX_PASSES:
         raise PhysicsInputError("end", None, f"the span has {len(passes)} passes, above this service's limit "
                                 f"of {MAX_PASSES}; shorten the span or use fewer stations")

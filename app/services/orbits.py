@@ -2,7 +2,8 @@
 
 ``ORBIT_BUILDERS`` maps each request model of the ``Orbit`` union (app/schemas/orbits.py, and the
 file formats of app/formats/models.py) to the function that builds its source. A new orbit type is
-one model plus one entry here. Builders raise ``PhysicsInputError`` naming the request field.
+one model plus one entry here. Sources raise ``PhysicsInputError`` naming their own SI parameters;
+``build_source`` maps them to the request's field and unit (request_terms.py).
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ from taubudget.physics.orbits.barycentric import BodySurfaceClock, CentredKepler
 
 from ..formats import FORMAT_ORBITS, build_format_source
 from ..schemas.orbits import KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
+from .request_terms import request_error
 
 
 def _time(dt):
@@ -62,7 +64,7 @@ def _surface(orbit: SurfaceClockIn, prefix: str):
         return BodySurfaceClock(orbit.center, orbit.latitude_deg, orbit.longitude_deg, orbit.height_m)
     return SurfaceClock(
         orbit.latitude_deg, orbit.longitude_deg, orbit.height_m,
-        orbit.geoid_undulation_m, orbit.orthometric_height_m, field_prefix=prefix,
+        orbit.geoid_undulation_m, orbit.orthometric_height_m,
     )
 
 
@@ -77,27 +79,6 @@ ORBIT_BUILDERS: dict[type, Callable] = {
     **{model: build_format_source for model in FORMAT_ORBITS},
 }
 """Request model -> builder(orbit, prefix) of its physics source."""
-
-
-REQUEST_FIELDS = {
-    "semi_major_axis_m": ("semi_major_axis_km", lambda m: m / 1e3),
-    "zonal_degree": ("gravity.earth_zonal_degree", None),
-}
-"""A physics parameter (SI) -> the request's field under the orbit block and its unit conversion;
-parameters with the same name and unit in both (eccentricity, inclination_deg, line1, ...) are not
-listed. A field starting with "gravity." is the request's own top-level block."""
-
-
-def request_error(exc: PhysicsInputError, prefix: str) -> PhysicsInputError:
-    """A physics source's error (its own parameter, SI) in the request's terms: the field under
-    ``prefix`` and the value in the request's unit. Errors already naming a request path (dotted,
-    or a top-level request field) pass unchanged."""
-    if exc.field is None or "." in exc.field or exc.field in ("orbit", "reference", "start", "end"):
-        return exc
-    name, convert = REQUEST_FIELDS.get(exc.field, (exc.field, None))
-    field = name if name.startswith("gravity.") else f"{prefix}.{name}"
-    value = convert(exc.value) if convert is not None and exc.value is not None else exc.value
-    return PhysicsInputError(field, value, exc.reason)
 
 
 def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
@@ -115,4 +96,4 @@ def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
             return builder(orbit, prefix, zonal_degree)
         return builder(orbit, prefix)
     except PhysicsInputError as exc:
-        raise request_error(exc, prefix) from None
+        raise request_error(exc, prefix, orbit) from None

@@ -76,7 +76,7 @@ def check_tle_epoch(src, span: Span) -> list[str]:
     days = nearest / SECONDS_PER_DAY
     if days > TLE_MAX_EPOCH_DISTANCE_DAYS:
         raise PhysicsInputError(
-            "start", span.start.utc_strftime("%Y-%m-%d"),
+            "start", span.start,
             f"the span lies {days:.0f} days from the TLE epoch; SGP4 mean elements are not meant to "
             f"be propagated that far (limit {TLE_MAX_EPOCH_DISTANCE_DAYS:.0f} days): use recent elements",
         )
@@ -97,7 +97,7 @@ def check_span(span: Span):
     if jd0 < DE421_FIRST_JD_TDB or jd1 > DE421_LAST_JD_TDB:
         raise PhysicsInputError(
             "end" if jd0 >= DE421_FIRST_JD_TDB else "start",
-            span.start.utc_strftime("%Y-%m-%d") if jd0 < DE421_FIRST_JD_TDB else None,
+            span.start if jd0 < DE421_FIRST_JD_TDB else None,
             "the span must lie inside the DE421 ephemeris (1899-07-30 to 2053-10-07) that "
             "supplies the Sun and Moon positions",
         )

@@ -63,7 +63,7 @@ class GroundStation:
     def __post_init__(self):
         if not MIN_MASK_DEG <= self.elevation_mask_deg <= MAX_MASK_DEG:
             raise PhysicsInputError(
-                "stations.elevation_mask_deg", self.elevation_mask_deg,
+                "elevation_mask_deg", self.elevation_mask_deg,
                 f"an elevation mask must lie in [{MIN_MASK_DEG:g}, {MAX_MASK_DEG:g}] degrees",
             )
         self.clock  # noqa: B018 - validates latitude and height through SurfaceClock
@@ -72,7 +72,7 @@ class GroundStation:
     def clock(self) -> SurfaceClock:
         """The station clock as a surface clock (its position and its own relativistic rate)."""
         return SurfaceClock(self.latitude_deg, self.longitude_deg, self.height_m,
-                            self.geoid_undulation_m, field_prefix="stations")
+                            self.geoid_undulation_m)
 
     @functools.cached_property
     def r_itrs_m(self) -> np.ndarray:

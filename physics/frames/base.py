@@ -47,10 +47,9 @@ class Frame:
         if (nr.code != 0).any():
             first = int(np.argmax(nr.code != 0))
             msg = nr.messages.get(int(nr.code[first]), "propagation failed")
-            when = self.span.utc_iso(t_s[first])[0]
             raise PhysicsInputError(
-                "orbit", None, f"the orbit cannot be propagated over the span: at {when} SGP4 "
-                f"reports error {int(nr.code[first])}: {msg}",
+                "orbit", None, f"the orbit cannot be propagated over the span: SGP4 reports error "
+                f"{int(nr.code[first])}: {msg}", at=self.span.times(float(t_s[first])),
             )
         return np.vstack([nr.total] + [nr.terms[n] for n in self.term_names] + self._extra(nr))
 

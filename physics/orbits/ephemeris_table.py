@@ -132,13 +132,16 @@ class EphemerisTable(OrbitSource):
     """Tabulated GCRS states, interpolated per segment; refuses to extrapolate.
 
     ``reference_time``: skyfield Time that the segments' ``t_s`` count from (TT seconds).
-    ``coverage_text``: how the data's coverage is described in errors (UTC strings).
+    Errors name the table's own parts (``segments``; ``coverage`` for an instant the data do not
+    cover, raised with ``at`` and ``source`` so the app can write the instant and the coverage
+    in UTC).
     """
 
     kind = "ephemeris"
 
     def __init__(self, reference_time, segments: list[Segment], label: str = "ephemeris",
-                 field: str = "orbit.text", period_s: float | None = None):
+                 period_s: float | None = None):
+        field = "segments"
         if not segments:
             raise PhysicsInputError(field, None, "the ephemeris holds no data points")
         for i, seg in enumerate(segments):
@@ -159,7 +162,6 @@ class EphemerisTable(OrbitSource):
         self.reference_time = reference_time
         self.segments = segments
         self.label = label
-        self.field = field
         self._period_s = period_s if period_s is not None else self._estimate_period()
         self.max_position_error_m = 0.0
         self.max_velocity_error_m_per_s = 0.0
@@ -194,10 +196,6 @@ class EphemerisTable(OrbitSource):
             self.reference_time.tt_fraction + np.array([seg.start_s, seg.stop_s]) / SECONDS_PER_DAY,
         ) for seg in self.segments]
 
-    def coverage_utc(self) -> list[tuple[str, str]]:
-        return [tuple(s.replace(" ", "T") for s in t.utc_strftime("%Y-%m-%dT%H:%M:%SZ"))
-                for t in self.coverage()]
-
     def _which_segment(self, t_tab: np.ndarray, span, t_s) -> np.ndarray:
         which = np.full(t_tab.shape, -1)
         for i, seg in enumerate(self.segments):  # loop over segments, not nodes
@@ -206,12 +204,19 @@ class EphemerisTable(OrbitSource):
             which[inside] = i
         if (which < 0).any():
             first = int(np.argmax(which < 0))
-            cov = "; ".join(f"{a} to {b}" for a, b in self.coverage_utc())
-            when = span.utc_iso(t_s[first])[0]
+            t_need = float(t_tab[first])
+            starts = np.array([seg.start_s for seg in self.segments])
+            stops = np.array([seg.stop_s for seg in self.segments])
+            if t_need < starts.min():
+                where = f"{starts.min() - t_need:.6g} s before the data's first point"
+            elif t_need > stops.max():
+                where = f"{t_need - stops.max():.6g} s after the data's last point"
+            else:
+                where = "in a gap between the data's segments"
             raise PhysicsInputError(
-                self.field, when,
-                f"the span {span.utc_iso(0.0)[0]} to {span.utc_iso(span.duration_s)[0]} needs the orbit "
-                f"at {when}, outside the data's coverage ({cov}); the ephemeris is never extrapolated",
+                "coverage", span.times(float(t_s[first])),
+                f"the span of {span.duration_s:.6g} s needs the orbit {where}; the ephemeris is "
+                "never extrapolated", source=self, at=span.times(float(t_s[first])),
             )
         return which
 

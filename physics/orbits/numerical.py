@@ -197,52 +197,51 @@ class NumericalOrbit(OrbitSource):
     """GCRS position (m) and velocity (m/s) at ``epoch``, integrated with DOP853.
 
     ``zonal_degree`` 0 is a point-mass Earth, 2..6 adds EGM2008 J2..J_n; ``sun``
-    and ``moon`` switch the third-body terms (DE421). ``field_prefix`` names the
-    request fields in errors.
+    and ``moon`` switch the third-body terms (DE421). Errors name this class's own parameters
+    (``r_gcrs_m``, ``v_gcrs_m_per_s``, ``zonal_degree``, ``epoch``) in SI.
     """
 
     kind = "state_vector"
 
     def __init__(self, epoch, r_gcrs_m, v_gcrs_m_per_s, zonal_degree: int = DEFAULT_ZONAL_DEGREE,
                  sun: bool = True, moon: bool = True, gm_m3_per_s2: float = GM_EARTH_TCG_M3_PER_S2,
-                 field_prefix: str = "orbit", label: str = "state vector"):
+                 label: str = "state vector"):
         r = np.asarray(r_gcrs_m, dtype=float).reshape(3)
         v = np.asarray(v_gcrs_m_per_s, dtype=float).reshape(3)
         if not (np.all(np.isfinite(r)) and np.all(np.isfinite(v))):
-            raise PhysicsInputError(f"{field_prefix}.position_gcrs_km", None, "the state must be finite")
+            raise PhysicsInputError("r_gcrs_m", None, "the state must be finite")
         if zonal_degree < 0 or zonal_degree == 1 or zonal_degree > MAX_ZONAL_DEGREE:
             raise PhysicsInputError(
-                f"{field_prefix}.force_model.earth_zonal_degree", zonal_degree,
+                "zonal_degree", zonal_degree,
                 f"zonal degree must be 0 or 2..{MAX_ZONAL_DEGREE}",
             )
         if np.linalg.norm(r) <= EARTH_EQUATORIAL_RADIUS_M:
             raise PhysicsInputError(
-                f"{field_prefix}.position_gcrs_km", (r / 1e3).tolist(),
+                "r_gcrs_m", r.tolist(),
                 f"the position is {np.linalg.norm(r) / 1e3:.0f} km from the geocentre, inside the "
                 f"Earth (equatorial radius {EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km)",
             )
         a, e, inc = osculating_elements(r, v, gm_m3_per_s2)
         if not math.isfinite(a) or e >= 1.0:
             raise PhysicsInputError(
-                f"{field_prefix}.velocity_gcrs_km_per_s", (v / 1e3).tolist(),
+                "v_gcrs_m_per_s", v.tolist(),
                 f"the state is not bound to the Earth (osculating e = {e:.4f}); a clock on an "
                 "escape trajectory needs a barycentric model",
             )
         rp = a * (1.0 - e)
         if rp <= EARTH_EQUATORIAL_RADIUS_M:
             raise PhysicsInputError(
-                f"{field_prefix}.position_gcrs_km", (r / 1e3).tolist(),
+                "r_gcrs_m", r.tolist(),
                 f"the osculating perigee radius {rp / 1e3:.0f} km is below the Earth's equatorial "
                 f"radius {EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km",
             )
-        check_perigee_altitude(rp, f"{field_prefix}.position_gcrs_km", (r / 1e3).tolist())
+        check_perigee_altitude(rp, "r_gcrs_m", r.tolist())
         self._epoch = epoch
         self.r0_m, self.v0_m_per_s = r, v
         self.gm = gm_m3_per_s2
         self.zonal_degree = int(zonal_degree)
         self.sun, self.moon = bool(sun), bool(moon)
         self.a_m, self.e, self.i_rad = a, e, inc
-        self.field_prefix = field_prefix
         self.label = label
         self._cache_key = None
         self._solutions = None  # (forward OdeSolution or None, backward or None, lo_s, hi_s)
@@ -312,10 +311,10 @@ class NumericalOrbit(OrbitSource):
         lo, hi = min(lo_s, epoch_s), max(hi_s, epoch_s)
         if (hi - lo) / SECONDS_PER_DAY > MAX_PROPAGATION_DAYS:
             raise PhysicsInputError(
-                f"{self.field_prefix}.epoch", self._epoch.utc_strftime("%Y-%m-%dT%H:%M:%SZ"),
+                "epoch", self._epoch,
                 f"the span reaches {(hi - lo) / SECONDS_PER_DAY:.0f} days from the state's epoch; "
                 f"numerical propagation is limited to {MAX_PROPAGATION_DAYS:.0f} days because drag, "
-                "radiation pressure and tesseral terms are not modelled",
+                "radiation pressure and tesseral terms are not modelled", source=self,
             )
         # One environment over the whole interval (cached by span), with a little margin.
         margin = 60.0
@@ -336,8 +335,8 @@ class NumericalOrbit(OrbitSource):
             sol = solve_ivp(rhs, (0.0, tau_end), y0, method="DOP853", rtol=RTOL, atol=atol,
                             dense_output=True)
             if not sol.success:  # pragma: no cover - DOP853 fails only on non-finite forces
-                raise PhysicsInputError(f"{self.field_prefix}", None,
-                                        f"numerical propagation failed: {sol.message}")
+                raise PhysicsInputError("r_gcrs_m", None, f"numerical propagation failed: {sol.message}",
+                                        source=self)
             sols.append(sol.sol)
         self._solutions = (sols[0], sols[1], lo, hi, epoch_s)
         self.steps_taken = sum(len(s.ts) - 1 for s in sols if s is not None)

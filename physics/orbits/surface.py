@@ -40,15 +40,14 @@ class SurfaceClock(OrbitSource):
         height_m: float = 0.0,
         geoid_undulation_m: float | None = None,
         orthometric_height_m: float | None = None,
-        field_prefix: str = "orbit",
     ):
         if not -90.0 <= latitude_deg <= 90.0:
             raise PhysicsInputError(
-                f"{field_prefix}.latitude_deg", latitude_deg, "latitude must lie in [-90, 90] degrees"
+                "latitude_deg", latitude_deg, "latitude must lie in [-90, 90] degrees"
             )
         if not MIN_HEIGHT_M <= height_m <= MAX_HEIGHT_M:
             raise PhysicsInputError(
-                f"{field_prefix}.height_m", height_m,
+                "height_m", height_m,
                 f"a surface clock's height must lie in [{MIN_HEIGHT_M:.0f}, {MAX_HEIGHT_M:.0f}] m "
                 "above the ellipsoid",
             )
@@ -56,7 +55,7 @@ class SurfaceClock(OrbitSource):
             implied = height_m - orthometric_height_m
             if abs(implied - geoid_undulation_m) > 0.01:
                 raise PhysicsInputError(
-                    f"{field_prefix}.orthometric_height_m", orthometric_height_m,
+                    "orthometric_height_m", orthometric_height_m,
                     f"height_m - orthometric_height_m = {implied:.3f} m contradicts "
                     f"geoid_undulation_m = {geoid_undulation_m:.3f} m; give one of the two",
                 )
@@ -66,7 +65,7 @@ class SurfaceClock(OrbitSource):
             undulation = geoid_undulation_m
         if undulation is not None and abs(undulation) > 120.0:
             raise PhysicsInputError(
-                f"{field_prefix}.geoid_undulation_m", undulation,
+                "geoid_undulation_m", undulation,
                 f"a geoid undulation of {undulation:.1f} m is outside the Earth's range "
                 "(about -107 m to +86 m)",
             )

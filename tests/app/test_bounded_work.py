@@ -47,6 +47,7 @@ def test_propagation_from_a_distant_epoch_is_in_the_estimate(guarded_client, pro
     assert elapsed < REFUSAL_WALL_LIMIT_S
     err = body["errors"][0]
     assert err["pointer"] == "/orbit/epoch"
+    assert "(orbit.epoch = '2028-03-29T00:00:00Z')" in body["detail"]  # the request's own text
     # 393 days from the span start to the epoch at 5828.5 s per orbit (2 pi sqrt(a^3/GM)):
     # 5826 revolutions, against the default limit of 250.
     assert "5826 revolutions" in err["detail"] and "limit of 250" in err["detail"]
@@ -85,7 +86,8 @@ def test_an_opm_upload_shares_the_estimate(guarded_client, problem_of):
     assert time.monotonic() - t0 < REFUSAL_WALL_LIMIT_S
     body = problem_of(resp, 422)
     err = body["errors"][0]
-    assert err["pointer"] == "/orbit/epoch" and err["part"] == "file"
+    # the epoch is in the uploaded file: the error points at its text (the multipart part "file")
+    assert err["pointer"] == "/orbit/text" and err["part"] == "file"
     assert "revolutions" in err["detail"] and "limit of 250" in err["detail"]
 
 

@@ -69,7 +69,8 @@ def _case_tle_years_from_epoch():
     (_case_gcrs_forced_for_the_sun, "/frame", "barycentric"),
     (_case_gcrs_forced_with_tdb, "/frame", "barycentric"),
     (_case_state_at_the_geocentre, "/orbit/position_gcrs_km", "inside the Earth"),
-    (_case_long_numerical_propagation, "/end", "MAX_NUMERICAL_REVOLUTIONS"),
+    # the request sets the span by duration_days, so that is the field named (not "end")
+    (_case_long_numerical_propagation, "/duration_days", "MAX_NUMERICAL_REVOLUTIONS"),
     (_case_tle_years_from_epoch, "/start", "TLE epoch"),
 ])
 def test_physical_limit_is_a_422(client, problem_of, make, pointer, words):

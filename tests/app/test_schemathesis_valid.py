@@ -110,7 +110,8 @@ APP = create_app(LIMITS)
 SERVED = APP.openapi()
 APP.openapi_schema = _profiled(SERVED)
 SCHEMA = schemathesis.openapi.from_asgi("/openapi.json", APP)
-# The interactive operations and probes; the studies routes (durable jobs) have their own tests.
+# The interactive operations and probes; the studies routes (stateful: ids from a submission) are
+# fuzzed the same way in tests/app/studies/test_studies_schemathesis_valid.py.
 OPERATIONS = [op for op in (r.ok() for r in SCHEMA.get_all_operations())
               if not op.path.startswith("/v1/studies")]
 

@@ -156,7 +156,18 @@ def test_oem_never_extrapolates(ts, odm):
     span = Span(ts.utc(2027, 3, 1), 3600.0)
     with pytest.raises(PhysicsInputError) as info:
         src.states(span, np.array([0.0, 1800.0]))
-    assert "never extrapolated" in info.value.reason and "2027-03-01T00:20:00Z" in info.value.reason
+    # physics: its own vocabulary (the table's coverage, seconds, the instant as a Time) ...
+    exc = info.value
+    assert exc.field == "coverage" and exc.source is src and "never extrapolated" in exc.reason
+    assert "600 s after the data's last point" in exc.reason and "2027-" not in exc.reason
+    assert float(span.seconds_after_start(exc.at)) == pytest.approx(1800.0, abs=1e-3)
+    # ... and the app's terms: the file's text, the instant and the coverage in UTC
+    from taubudget.app.present.errors import shown
+    from taubudget.app.services.request_terms import request_error
+
+    field, value, reason = shown(request_error(exc, "orbit", OemOrbitIn))
+    assert field == "orbit.text" and value == "2027-03-01T00:30:00Z"
+    assert "the data cover 2027-03-01T00:00:00Z to 2027-03-01T00:20:00Z" in reason
 
 
 # --- TLE files -----------------------------------------------------------------------
