@@ -255,7 +255,8 @@ def _plan_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings, s
     seen: set = set()
     total_nodes = total_bytes = 0
     shared = _shared_orbit(defaults, strict) if any(o is None for _, o, _ in entries) else None
-    shared_sources: dict[int, Any] = {}  # by zonal degree (Keplerian elements follow the field)
+    # By gravity block: Keplerian elements follow its zonal field, a state vector its forces.
+    shared_sources: dict[tuple, Any] = {}
     for i, (item, orbit, source) in enumerate(entries):
         checkpoint()
         ident, bad = _item_id(i, item, seen)
@@ -269,13 +270,14 @@ def _plan_batch(entries: list[tuple[Any, Any, Any]], defaults: dict, settings, s
             try:
                 req = BudgetRequest.model_validate(merged, strict=None if strict else False)
                 if uses_shared:
-                    degree = req.gravity.earth_zonal_degree
-                    if degree not in shared_sources:
+                    g = req.gravity
+                    key = (g.earth_zonal_degree, g.sun, g.moon)
+                    if key not in shared_sources:
                         try:
-                            shared_sources[degree] = orbit_source(req)
+                            shared_sources[key] = orbit_source(req)
                         except PhysicsInputError as exc:
-                            shared_sources[degree] = exc
-                    source = shared_sources[degree]
+                            shared_sources[key] = exc
+                    source = shared_sources[key]
                     if isinstance(source, PhysicsInputError):
                         raise source
                 cost = planned_cost_of(req, settings, source)

@@ -38,10 +38,14 @@ def request_error(exc: PhysicsInputError, prefix: str, orbit) -> PhysicsInputErr
     return in_request_terms(exc, prefix, orbit)
 
 
-def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn, label: str):
+def _numerical(epoch, r_m, v_m_per_s, force: ForceModelIn | None, gravity, label: str):
+    """A numerically propagated source. Forces: the orbit's own ``force_model``; else ``gravity``
+    (the request's gravity block: one field for the trajectory and the rate); else ForceModelIn's
+    defaults."""
     from taubudget.physics.orbits.numerical import NumericalOrbit
 
-    return NumericalOrbit(epoch, r_m, v_m_per_s, force.earth_zonal_degree, force.sun, force.moon,
+    forces = force if force is not None else gravity if gravity is not None else ForceModelIn()
+    return NumericalOrbit(epoch, r_m, v_m_per_s, forces.earth_zonal_degree, forces.sun, forces.moon,
                           label=label)
 
 
@@ -72,8 +76,9 @@ def _pick(found: list, object_id: str | None, what: str):
     raise FormatError(None, "object_id", f"object {object_id!r} is not in the {what}")
 
 
-def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
-    """Every object of a text orbit as (id, source): a multi-object file becomes a batch."""
+def format_sources(orbit, prefix: str = "orbit", gravity=None) -> list[tuple[str, object]]:
+    """Every object of a text orbit as (id, source): a multi-object file becomes a batch.
+    ``gravity``: see ``build_format_source``."""
     try:
         if isinstance(orbit, OmmOrbitIn):
             found = _omm_sources(orbit, prefix)
@@ -104,7 +109,7 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
             from .opm import parse_opm
 
             st = parse_opm(orbit.text)
-            return [(st.object_id or st.object_name, build_format_source(orbit, prefix))]
+            return [(st.object_id or st.object_name, build_format_source(orbit, prefix, gravity))]
         if isinstance(orbit, OemOrbitIn) and orbit.object_id is None:
             from .oem import oem_object_ids, parse_oem
 
@@ -113,17 +118,20 @@ def format_sources(orbit, prefix: str = "orbit") -> list[tuple[str, object]]:
         raise exc.to_physics(f"{prefix}.text") from None
     except PhysicsInputError as exc:
         raise request_error(exc, prefix, orbit) from None
-    return [("1", build_format_source(orbit, prefix))]
+    return [("1", build_format_source(orbit, prefix, gravity))]
 
 
-def build_format_source(orbit, prefix: str = "orbit"):
-    """The physics orbit source of one format orbit model (PhysicsInputError if unusable)."""
+def build_format_source(orbit, prefix: str = "orbit", gravity=None):
+    """The physics orbit source of one format orbit model (PhysicsInputError if unusable).
+
+    ``gravity``: the request's gravity block (earth_zonal_degree, sun, moon), the forces of a
+    numerical propagation whose orbit gives no ``force_model``."""
     try:
         if isinstance(orbit, StateVectorOrbitIn):
             t = timescale().from_datetime(orbit.epoch)
             return _numerical(t, np.array(orbit.position_gcrs_km) * 1e3,
                               np.array(orbit.velocity_gcrs_km_per_s) * 1e3, orbit.force_model,
-                              "state vector (GCRS)")
+                              gravity, "state vector (GCRS)")
         if isinstance(orbit, OpmOrbitIn):
             from .opm import parse_opm
 
@@ -131,7 +139,7 @@ def build_format_source(orbit, prefix: str = "orbit"):
             if orbit.object_id is not None and orbit.object_id not in (st.object_id, st.object_name):
                 raise FormatError(None, "OBJECT_ID",
                                   f"the OPM describes {st.object_id!r}, not {orbit.object_id!r}")
-            return _numerical(st.epoch, st.r_gcrs_m, st.v_gcrs_m_per_s, orbit.force_model,
+            return _numerical(st.epoch, st.r_gcrs_m, st.v_gcrs_m_per_s, orbit.force_model, gravity,
                               f"OPM {st.object_name} ({st.object_id}), {st.frame} -> GCRS")
         if isinstance(orbit, OemOrbitIn):
             from .oem import parse_oem

@@ -29,9 +29,18 @@ _Strict = StrictModel
 
 
 class ForceModelIn(ZonalGravityModel):
-    """Forces of the numerical propagation (not of the clock rate)."""
+    """Forces of the numerical propagation (not of the clock rate). Omitted, a budget's propagation
+    uses the budget's own ``gravity`` block, so the orbit and the clock's rate see one field; where
+    there is no gravity block (measured clock residuals) these defaults apply."""
 
     earth_zonal_degree: int = Field(6, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
+
+
+FORCE_MODEL_FIELD = Field(
+    None, description="Forces of the numerical propagation. Omitted: the request's gravity block "
+    "(Earth zonal degree, Sun, Moon), so the trajectory and the clock's rate use one field; give it "
+    "to propagate with other forces than the rate's (e.g. a realistic orbit under a point-mass rate "
+    "model). Without a gravity block (clock residuals): J2..J6, Sun and Moon.")
 
 
 _TEXT = Field(min_length=1, max_length=MAX_TEXT_CHARS * 2,
@@ -54,7 +63,7 @@ class OpmOrbitIn(_Strict):
     type: Literal["opm"]
     text: str = _TEXT
     object_id: str | None = _OBJECT
-    force_model: ForceModelIn = Field(default_factory=ForceModelIn)
+    force_model: ForceModelIn | None = FORCE_MODEL_FIELD
 
 
 class OemOrbitIn(_Strict):
@@ -90,7 +99,7 @@ class StateVectorOrbitIn(_Strict):
     position_gcrs_km: list[float] = Field(min_length=3, max_length=3, description="GCRS position, km")
     velocity_gcrs_km_per_s: list[float] = Field(min_length=3, max_length=3,
                                                 description="GCRS velocity (dx/dTCG), km/s")
-    force_model: ForceModelIn = Field(default_factory=ForceModelIn)
+    force_model: ForceModelIn | None = FORCE_MODEL_FIELD
 
 
 TEXT_ORBITS = (OmmOrbitIn, OpmOrbitIn, OemOrbitIn, Sp3OrbitIn, TleFileOrbitIn)

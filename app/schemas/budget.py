@@ -106,7 +106,10 @@ class SeriesOut(_Open):
     time_utc: list[str]
     elapsed_s: list[float]
     offset_ns: list[float] = Field(description="Accumulated offset, clock minus reference, ns")
-    periodic_ns: list[float]
+    periodic_ns: list[float] = Field(
+        description="The offset with the secular line (the mean rate) removed, mean zero over the span: "
+        "every bounded part together (the eccentricity term, J2 and tidal periodic terms, and for a "
+        "barycentric budget the position term and the host body's orbital term), ns")
     eccentricity_term_ns: list[float] = Field(
         description="The absolute eccentricity term -(2/c^2) r.v at each time, as IS-GPS-200's "
         "F e sqrt(A) sin E (not counted from the span start); 0 where no correction is offered, ns")

@@ -47,8 +47,9 @@ def build_span(req: BudgetRequest, settings: Settings) -> Span:
 
 
 def orbit_source(req: BudgetRequest):
-    """The physics source of the request's orbit (Keplerian elements follow its zonal field)."""
-    return build_source(req.orbit, zonal_degree=req.gravity.earth_zonal_degree)
+    """The physics source of the request's orbit: Keplerian elements follow its zonal field, and a
+    state vector or OPM without a force_model is propagated under its gravity block."""
+    return build_source(req.orbit, gravity=req.gravity)
 
 
 def _reference_source(req: BudgetRequest):

@@ -24,7 +24,8 @@ def _time(dt):
     return timescale().from_datetime(dt)
 
 
-def _keplerian(orbit: KeplerianOrbitIn, prefix: str, zonal_degree: int = 0):
+def _keplerian(orbit: KeplerianOrbitIn, prefix: str, gravity=None):
+    zonal_degree = gravity.earth_zonal_degree if gravity is not None else 0
     if orbit.center != "earth":
         if orbit.j2_secular:
             raise PhysicsInputError(f"{prefix}.j2_secular", True, "J2 secular drift is modelled for "
@@ -53,7 +54,7 @@ def _keplerian(orbit: KeplerianOrbitIn, prefix: str, zonal_degree: int = 0):
     )
 
 
-def _surface(orbit: SurfaceClockIn, prefix: str):
+def _surface(orbit: SurfaceClockIn, prefix: str, gravity=None):
     if orbit.center != "earth":
         if prefix == "reference":
             raise PhysicsInputError("reference.center", orbit.center, "a surface reference clock must be "
@@ -68,7 +69,7 @@ def _surface(orbit: SurfaceClockIn, prefix: str):
     )
 
 
-def _tle(orbit: TleOrbitIn, prefix: str):
+def _tle(orbit: TleOrbitIn, prefix: str, gravity=None):
     return TleOrbit(orbit.line1, orbit.line2, timescale(), orbit.name)
 
 
@@ -78,22 +79,23 @@ ORBIT_BUILDERS: dict[type, Callable] = {
     SurfaceClockIn: _surface,
     **{model: build_format_source for model in FORMAT_ORBITS},
 }
-"""Request model -> builder(orbit, prefix) of its physics source."""
+"""Request model -> builder(orbit, prefix, gravity) of its physics source."""
 
 
-def build_source(orbit, prefix: str = "orbit", zonal_degree: int = 0):
+def build_source(orbit, prefix: str = "orbit", gravity=None):
     """The physics orbit source of a request's orbit block (``prefix``: its request path).
 
-    ``zonal_degree``: the Earth field the budget evaluates (``gravity.earth_zonal_degree``);
-    Keplerian elements around the Earth follow it (state vectors carry their own force model).
+    ``gravity``: the request's gravity block (``earth_zonal_degree``, ``sun``, ``moon``; None: a
+    point-mass Earth with no third bodies for elements, ForceModelIn's defaults for a numerical
+    propagation). Keplerian elements around the Earth follow its zonal field; a state vector or
+    OPM without its own ``force_model`` is propagated under it, so the trajectory and the clock's
+    rate use one field.
     """
     try:
         builder = ORBIT_BUILDERS[type(orbit)]
     except KeyError:  # pragma: no cover - the Orbit union and the registry are checked by a test
         raise TypeError(f"unsupported orbit {type(orbit).__name__}") from None
     try:
-        if builder is _keplerian:
-            return builder(orbit, prefix, zonal_degree)
-        return builder(orbit, prefix)
+        return builder(orbit, prefix, gravity)
     except PhysicsInputError as exc:
         raise request_error(exc, prefix, orbit) from None

@@ -149,14 +149,15 @@ _file_cache: dict[str, dict] = {}
 _FILE_CACHE_SIZE = 4
 
 
-def _file_source(orbit: dict):
-    """The source of one object of a multi-object orbit file, the file parsed once per process."""
+def _file_source(orbit: dict, gravity):
+    """The source of one object of a multi-object orbit file, the file parsed once per process
+    (per gravity block: the forces of a numerical propagation that gives no force_model)."""
     from ..formats import TEXT_ORBITS, format_sources
 
     if not (isinstance(orbit, dict) and orbit.get("object_id") and isinstance(orbit.get("text"), str)):
         return None
     whole = {k: v for k, v in orbit.items() if k != "object_id"}
-    key = hashlib.sha256(json.dumps(whole, sort_keys=True).encode()).hexdigest()
+    key = hashlib.sha256(json.dumps([whole, gravity], sort_keys=True, default=str).encode()).hexdigest()
     with _file_lock:
         objects = _file_cache.get(key)
     if objects is None:
@@ -165,7 +166,7 @@ def _file_source(orbit: dict):
         if model is None:
             return None
         try:
-            objects = dict(format_sources(model.model_validate(whole)))
+            objects = dict(format_sources(model.model_validate(whole), "orbit", _gravity(gravity)))
         except (ValidationError, PhysicsInputError):
             return None  # the item's own validation names the problem
         with _file_lock:
@@ -175,13 +176,23 @@ def _file_source(orbit: dict):
     return objects.get(str(orbit["object_id"]))
 
 
+def _gravity(block):
+    """A study item's gravity block as the model (None when invalid: the item's validation names it)."""
+    from ..schemas.orbits import GravityIn
+
+    try:
+        return GravityIn.model_validate(block or {})
+    except ValidationError:
+        return None
+
+
 def run_item(kind: str, defaults: dict, parameters: dict | None, payload: dict | None,
              settings_json: str) -> tuple[int, dict]:
     """What a Dask worker runs for one study item (module-level, so it pickles by reference)."""
     body = item_request(defaults, parameters, payload)
     source = None
     if kind == "budget" and payload is not None:
-        source = _file_source(body.get("orbit"))
+        source = _file_source(body.get("orbit"), body.get("gravity"))
     status, out = run_request(kind, body, _settings(settings_json), source)
     if status == 504 and out.get("limit_name") == "COMPUTE_DEADLINE_SECONDS":  # name the study's setting
         out = {**out, "limit_name": "STUDY_ITEM_DEADLINE_SECONDS",

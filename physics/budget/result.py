@@ -103,6 +103,9 @@ class Series:
     t_s: np.ndarray
     offset_s: np.ndarray
     periodic_s: np.ndarray
+    """The offset less the secular line (the mean rate), mean zero over the span: every bounded
+    part together (eccentricity term, J2 and tidal periodic terms; in the BCRS also the position
+    term and the host body's orbital term)."""
     eccentricity_term_s: np.ndarray
     """-(2/c^2) r.v(t): the absolute term, as IS-GPS-200's F e sqrt(A) sin E (zeros where no
     correction is offered)."""

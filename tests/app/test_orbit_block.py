@@ -134,6 +134,7 @@ def test_physics_descriptions_are_si_without_time_text(tle_lines):
     import re
 
     from taubudget.app.schemas import BudgetRequest
+    from taubudget.app.schemas.orbits import GravityIn
     from taubudget.app.services.orbits import build_source
 
     line1, line2 = tle_lines(epoch="27060.25000000")
@@ -145,7 +146,7 @@ def test_physics_descriptions_are_si_without_time_text(tle_lines):
     for block in orbits:
         body = {**copy.deepcopy(EXAMPLE_REQUEST), "orbit": block}
         orbit = BudgetRequest.model_validate(body, strict=False).orbit
-        described = build_source(orbit, zonal_degree=4).describe()
+        described = build_source(orbit, gravity=GravityIn(earth_zonal_degree=4)).describe()
         for key, value in _walk(described):
             assert not re.search(r"_(km|ns|us|utc)$", key), (block["type"], key)
             assert not (isinstance(value, str) and iso.search(value)), (block["type"], key, value)

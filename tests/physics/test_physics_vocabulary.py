@@ -2,6 +2,7 @@
 
 import pytest
 from taubudget.app.schemas import KeplerianOrbitIn
+from taubudget.app.schemas.orbits import GravityIn
 from taubudget.app.services.orbits import build_source
 from taubudget.physics import KeplerianOrbit, Span, compute_budget
 from taubudget.physics.errors import PhysicsInputError
@@ -37,5 +38,6 @@ def test_the_app_maps_the_zonal_degree_to_the_gravity_block():
     orbit = KeplerianOrbitIn(type="keplerian", epoch=EPOCH, semi_major_axis_km=7000.0, eccentricity=0.0,
                              inclination_deg=55.0)
     with pytest.raises(PhysicsInputError) as info:
-        build_source(orbit, prefix="orbit", zonal_degree=1)
+        # a degree the request schema refuses, built unvalidated to reach the physics check
+        build_source(orbit, prefix="orbit", gravity=GravityIn.model_construct(earth_zonal_degree=1))
     assert (info.value.field, info.value.value) == ("gravity.earth_zonal_degree", 1)
