@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Annotated
 
-from pydantic import AwareDatetime, BaseModel, ConfigDict, Field, model_validator
+from pydantic import AwareDatetime, BaseModel, BeforeValidator, ConfigDict, Field, model_validator
 
 
 class StrictModel(BaseModel):
@@ -16,6 +16,18 @@ class StrictModel(BaseModel):
 
     model_config = ConfigDict(extra="forbid", allow_inf_nan=False, strict=True)
 
+
+def _integral_number(value):
+    """A JSON number with no fractional part as the integer it is (JSON has one number type, and
+    JSON Schema's "integer" admits 2.0); 2.5, "2" and true stay refused by the strict check."""
+    if isinstance(value, float) and value.is_integer():
+        return int(value)
+    return value
+
+
+Integer = Annotated[int, BeforeValidator(_integral_number)]
+"""An integer request field: 2 or 2.0 (what a script computing it as a float writes), not 2.5, "2"
+or true."""
 
 UtcDateTime = Annotated[AwareDatetime, Field(strict=False)]
 """A time with its offset: JSON has no time type, so ISO 8601 text is the strict form here."""
@@ -30,7 +42,7 @@ class OpenModel(BaseModel):
 class ZonalGravityModel(StrictModel):
     """Which gravity terms act: Earth zonal degree (subclasses set its default), Sun, Moon."""
 
-    earth_zonal_degree: int = Field(4, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
+    earth_zonal_degree: Integer = Field(4, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
     sun: bool = True
     moon: bool = True
 

@@ -22,7 +22,7 @@ from typing import Literal
 
 from pydantic import Field
 
-from ..model_base import StrictModel, UtcDateTime, ZonalGravityModel
+from ..model_base import Integer, StrictModel, UtcDateTime, ZonalGravityModel
 from .common import MAX_TEXT_CHARS
 
 _Strict = StrictModel
@@ -33,7 +33,7 @@ class ForceModelIn(ZonalGravityModel):
     uses the budget's own ``gravity`` block, so the orbit and the clock's rate see one field; where
     there is no gravity block (measured clock residuals) these defaults apply."""
 
-    earth_zonal_degree: int = Field(6, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
+    earth_zonal_degree: Integer = Field(6, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
 
 
 FORCE_MODEL_FIELD = Field(
@@ -80,7 +80,7 @@ class Sp3OrbitIn(_Strict):
     type: Literal["sp3"]
     text: str = _TEXT
     object_id: str | None = _OBJECT
-    interpolation_degree: int = Field(9, ge=3, le=15, description="Lagrange degree (SP3 names none)")
+    interpolation_degree: Integer = Field(9, ge=3, le=15, description="Lagrange degree (SP3 names none)")
 
 
 class TleFileOrbitIn(_Strict):

@@ -10,9 +10,9 @@ from typing import Any, Literal
 
 from pydantic import Field, model_validator
 
+from ..model_base import Integer, UtcDateTime
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
-from ..model_base import UtcDateTime
 from ..present.terms import RATE_TERM_DESCRIPTIONS
 from .clock import ClockErrorOut, ClockIn
 from .orbits import GravityIn, Orbit, SurfaceClockIn
@@ -46,10 +46,10 @@ class BudgetRequest(_Strict):
         True, description="The user segment removes the eccentricity term -(2/c^2) r.v around the "
         "clock's own centre from the residual (where one is offered: not for a clock fixed on the "
         "Moon or Mars); false keeps it in the residual and the clock error")
-    monte_carlo_runs: int | None = Field(
+    monte_carlo_runs: Integer | None = Field(
         None, ge=10, le=5000, description="Simulated noise realisations (Kasdin-Walter) for the "
         "probability that |time error| exceeds time_error_budget_ns within the span (needs clock)")
-    monte_carlo_seed: int = Field(0, ge=0, le=2**32 - 1, description="Seed of the Monte Carlo run")
+    monte_carlo_seed: Integer = Field(0, ge=0, le=2**32 - 1, description="Seed of the Monte Carlo run")
 
     @model_validator(mode="after")
     def _span(self):

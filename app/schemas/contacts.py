@@ -9,6 +9,7 @@ from typing import Literal
 
 from pydantic import Field, field_validator, model_validator
 
+from ..model_base import Integer
 from ..model_base import OpenModel as _Open
 from ..model_base import StrictModel as _Strict
 from ..present.terms import RELATIVISTIC_OFFSET_ALIASES
@@ -36,7 +37,8 @@ class SyncPolicyIn(_Strict):
 
     kind: Literal["every_pass", "every_nth_pass", "min_duration", "min_elevation", "fixed_interval"] = (
         "every_pass")
-    every_n: int = Field(1, ge=1, le=10_000, description="every_nth_pass: sync at every Nth eligible pass")
+    every_n: Integer = Field(1, ge=1, le=10_000,
+                             description="every_nth_pass: sync at every Nth eligible pass")
     min_duration_s: float = Field(0.0, ge=0, description="Only passes at least this long, s")
     min_elevation_deg: float | None = Field(
         None, ge=-5, le=90, description="Only passes culminating this high, deg")

@@ -17,7 +17,7 @@ from typing import Any, Literal
 
 from pydantic import Field, model_validator
 
-from ..model_base import StrictModel
+from ..model_base import Integer, StrictModel
 
 KINDS = ("budget", "contact_plan")
 MAX_SWEEP_PARAMETERS = 8
@@ -33,7 +33,7 @@ class SweepParameter(StrictModel):
     values: list[Any] | None = Field(None, min_length=1, max_length=MAX_VALUES_PER_PARAMETER)
     start: float | None = None
     stop: float | None = None
-    count: int | None = Field(None, ge=1, le=MAX_VALUES_PER_PARAMETER,
+    count: Integer | None = Field(None, ge=1, le=MAX_VALUES_PER_PARAMETER,
                               description="Number of evenly spaced values from start to stop inclusive")
 
     @model_validator(mode="after")

@@ -18,6 +18,8 @@ COERCED = [  # the reproducers: each gave 200
     (("orbit", "inclination_deg"), True),
     (("gravity", "sun"), "yes"),
     (("gravity", "earth_zonal_degree"), "2"),
+    (("gravity", "earth_zonal_degree"), 2.5),  # not an integer
+    (("gravity", "earth_zonal_degree"), True),
 ]
 
 
@@ -41,6 +43,18 @@ def test_times_are_still_iso_text_and_numbers_may_be_integers(client):
     body = copy.deepcopy(EXAMPLE_REQUEST)
     body["orbit"]["semi_major_axis_km"] = 26561  # a JSON integer is a number
     assert client.post("/v1/budgets", json=body).status_code == 200
+
+
+def test_an_integer_field_takes_a_number_with_no_fraction(client):
+    """JSON has one number type, and JSON Schema's "integer" (the served document's type for these
+    fields) admits 2.0: a script that computes a degree or a count as a float writes 4.0. The
+    valid-body fuzz of the studies routes found a sweep "count": 2.0 refused while the document
+    admitted it."""
+    body = copy.deepcopy(EXAMPLE_REQUEST)
+    body["gravity"]["earth_zonal_degree"] = 2.0
+    out = client.post("/v1/budgets", json=body)
+    assert out.status_code == 200, out.text
+    assert out.json()["rate_terms_fractional"]["earth_zonal"] != 0.0  # degree 2: J2 is in the rate
 
 
 def test_the_query_route_converts_text_and_names_bad_text(client, problem_of):
