@@ -145,9 +145,24 @@
   class Problem extends Error {
     constructor(problem) { super(problem.detail); this.problem = problem; }
   }
-  function apiHeaders(extra = {}) { // a key only when the service asks for one (TAUBUDGET_API_KEYS)
-    const key = $("#api-key").value.trim();
+  // The API key (TAUBUDGET_API_KEYS on the service) travels only in the X-API-Key header of this
+  // page's own requests: never in a URL, a permalink or a snippet (those carry placeholders), and it
+  // is kept in sessionStorage (this tab, until it closes), never in localStorage.
+  const apiKey = () => $("#api-key").value.trim();
+  function apiHeaders(extra = {}) {
+    const key = apiKey();
     return key ? { ...extra, "X-API-Key": key } : extra;
+  }
+  const CURL_KEY = () => (apiKey() ? ' -H "X-API-Key: $TAUBUDGET_API_KEY"' : "");
+  function sheetParams(params) { // spreadsheets cannot send headers: GET routes take api_key=
+    const p = new URLSearchParams(params);
+    if (apiKey()) p.set("api_key", "YOUR_SPREADSHEET_KEY");
+    return p;
+  }
+  function markKey(on) {
+    const box = $("#api-key");
+    box.classList.toggle("invalid", on);
+    if (on) box.setAttribute("aria-invalid", "true"); else box.removeAttribute("aria-invalid");
   }
   async function callApi(path, body, file, fileType) {
     let init;
@@ -171,11 +186,12 @@
     $$(".invalid", form).forEach((e) => { e.classList.remove("invalid"); e.removeAttribute("aria-invalid"); });
     box.hidden = true;
     box.textContent = "";
+    markKey(false);
   }
   function fieldFor(form, pointer) {
     const els = $$("[data-ptr], [data-err]", form).filter(active);
     for (let p = pointer; ; p = p.slice(0, p.lastIndexOf("/"))) {
-      const hit = els.find((e) => e.dataset.ptr === p || (e.dataset.err || "").split(" ").includes(p))
+      const hit = els.find((e) => e.dataset.ptr === p || (e.dataset.err ? e.dataset.err.split(" ").includes(p) : false))
         || (p && els.find((e) => (e.dataset.ptr || "").startsWith(p + "/")));
       if (hit || !p) return hit || null;
     }
@@ -186,6 +202,7 @@
     const head = document.createElement("strong");
     head.textContent = problem.title || "Problem";
     box.append(head, document.createTextNode(" " + (problem.detail || "")));
+    if (problem.status === 401 || problem.status === 403) markKey(true); // the key is missing or wrong
     for (const e of problem.errors || []) {
       const el = fieldFor(form, e.pointer || "");
       const msg = document.createElement("span");
@@ -460,26 +477,27 @@
       history.replaceState(null, "", a.href);
     } else box.append(block("Permalink", "The request is too long for a link (a large orbit file): use the JSON file below."));
     const curl = [state.file
-      ? `curl -s ${origin}/v1/budgets -F file=@${shellQuote(state.file.name)} -F request=${shellQuote(JSON.stringify(breq))}` +
+      ? `curl -s${CURL_KEY()} ${origin}/v1/budgets -F file=@${shellQuote(state.file.name)} -F request=${shellQuote(JSON.stringify(breq))}` +
         ($("#orbit-file-type").value ? ` -F type=${$("#orbit-file-type").value}` : "")
-      : `curl -s -X POST ${origin}/v1/budgets -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(breq))}`];
-    if (preq) curl.push(`curl -s -X POST ${origin}/v1/contact-plans -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(preq))}`);
-    box.append(block("curl", curl.join("\n\n")));
+      : `curl -s -X POST ${origin}/v1/budgets${CURL_KEY()} -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(breq))}`];
+    if (preq) curl.push(`curl -s -X POST ${origin}/v1/contact-plans${CURL_KEY()} -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(preq))}`);
+    box.append(block(apiKey() ? "curl (the key from $TAUBUDGET_API_KEY in your shell)" : "curl", curl.join("\n\n")));
     const cliBudget = JSON.stringify(breq, null, 2) + "\n";
     const cli = [download("request.json", cliBudget, "application/json"), "taubudget budget request.json   # add --json for the response", cliBudget];
     if (preq) cli.push(download("plan.json", JSON.stringify(preq, null, 2) + "\n", "application/json"), "taubudget contacts plan.json");
     box.append(block("CLI JSON file", cli));
     const q = csvQuery(breq);
     if (q) {
-      const one = new URLSearchParams(q); one.delete("series_step_s"); one.set("field", "mean_rate_us_per_day");
+      const one = sheetParams(q); one.delete("series_step_s"); one.set("field", "mean_rate_us_per_day");
       const sheet = `=WEBSERVICE("${origin}/v1/budgets.csv?${one}")`;
-      box.append(block("Spreadsheet cell (one number; change field= for another)", [sheet,
-        `=IMPORTDATA("${origin}/v1/budgets.csv?${q}")   (the whole CSV, where the spreadsheet has IMPORTDATA)`]));
+      box.append(block("Spreadsheet cell (one number; change field= for another" +
+        (apiKey() ? "; api_key=: a key of the spreadsheet's own" : "") + ")", [sheet,
+        `=IMPORTDATA("${origin}/v1/budgets.csv?${sheetParams(q)}")   (the whole CSV, where the spreadsheet has IMPORTDATA)`]));
       const fig = new URLSearchParams(q); fig.set("plot", "all");
       const img = document.createElement("a");
       Object.assign(img, { id: "figure-link", className: "button", href: `${origin}/v1/budgets.svg?${fig}`, textContent: "budget.svg" });
       box.append(block("Figure for a report or wiki (GET /v1/budgets.svg or .png; plot=offset, terms, periodic, envelope or all)",
-        [img, `=IMAGE("${origin}/v1/budgets.png?${fig}")`]));
+        [img, `=IMAGE("${origin}/v1/budgets.png?${sheetParams(fig)}")`]));
     } else box.append(block("Spreadsheet cell", "This request has no spelling as GET /v1/budgets.csv parameters (that route takes Keplerian, TLE or surface orbits, a named reference, gravity switches and a clock preset)."));
     const dl = [download("budget.json", JSON.stringify(budget, null, 2) + "\n", "application/json")];
     if (q) {
@@ -495,13 +513,34 @@
       dl.push(download("contact-plan.json", JSON.stringify(plan, null, 2) + "\n", "application/json"));
       const btn = document.createElement("button");
       Object.assign(btn, { type: "button", className: "small", textContent: "passes.csv" });
-      btn.addEventListener("click", async () => {
-        const r = await fetch("/v1/contact-plans.csv", { method: "POST", headers: apiHeaders({ "Content-Type": "application/json" }), body: JSON.stringify(preq) });
-        const a = download("passes.csv", await r.text(), "text/csv"); a.click();
-      });
+      btn.addEventListener("click", () => save(fetch("/v1/contact-plans.csv", { method: "POST",
+        headers: apiHeaders({ "Content-Type": "application/json" }), body: JSON.stringify(preq) }), "passes.csv"));
       dl.push(btn);
     }
     box.append(block("Downloads", dl));
+  }
+
+  // A file the service answers with, saved under its own name (else `name`); or its problem shown.
+  async function save(fetching, name) {
+    const tab = $(".tab:not([hidden])"), form = $("form", tab), box = $(".problem", tab);
+    try {
+      const r = await fetching;
+      if (!r.ok) throw new Problem(await r.json().catch(() => ({ title: `HTTP ${r.status}`, detail: r.statusText, errors: [] })));
+      const named = /filename="([^"]+)"/.exec(r.headers.get("content-disposition") || "");
+      download(named ? named[1] : name, await r.blob(), r.headers.get("content-type") || "").click();
+    } catch (err) {
+      clearProblems(form, box);
+      showProblem(form, box, err instanceof Problem ? err.problem : { title: "The page could not reach the service", detail: String(err) });
+    }
+  }
+  // A plain link cannot send a header: with a key set, the page's GET links into /v1 (CSV, figure,
+  // constants) are fetched with the key in its header and the answer saved as a file.
+  function getWithKey(e) {
+    const a = e.target.closest("a[href]");
+    const url = a && new URL(a.href, location.href);
+    if (!url || !apiKey() || url.origin !== location.origin || !/^\/v1(\/|$)/.test(url.pathname)) return;
+    e.preventDefault();
+    save(fetch(url, { headers: apiHeaders() }), url.pathname.split("/").pop() + ".json");
   }
 
   // --- The budget tab --------------------------------------------------------------------
@@ -584,7 +623,7 @@
       box.append(block("Permalink", a));
       history.replaceState(null, "", link);
     }
-    box.append(block("curl", `curl -s -X POST ${origin}/v1/clock-stability -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(req))}`));
+    box.append(block(apiKey() ? "curl (the key from $TAUBUDGET_API_KEY in your shell)" : "curl", `curl -s -X POST ${origin}/v1/clock-stability${CURL_KEY()} -H 'Content-Type: application/json' -d ${shellQuote(JSON.stringify(req))}`));
     box.append(block("CLI", [download("data.txt", req.data.join("\n") + "\n", "text/plain"),
       `taubudget stability data.txt --data-type ${req.data_type || "phase"} --sample-interval-s ${req.sample_interval_s}` +
       (req.confidence ? ` --confidence ${req.confidence}` : "")]));
@@ -674,6 +713,7 @@
     const keyBox = $("#api-key");
     keyBox.value = sessionStorage.getItem("taubudget-api-key") || "";
     keyBox.addEventListener("change", () => sessionStorage.setItem("taubudget-api-key", keyBox.value.trim()));
+    document.addEventListener("click", getWithKey);
     const doc = await (await fetch("/openapi.json")).json();
     const examples = (path) => ((((doc.paths[path] || {}).post || {}).requestBody || {}).content || {})["application/json"]?.examples || {};
     const presets = findEnum(doc.components.schemas.ClockIn?.properties?.preset) || [];

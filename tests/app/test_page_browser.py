@@ -13,6 +13,7 @@ test's tmp directory (printed with -s; kept by pytest under its basetemp).
 from __future__ import annotations
 
 import json
+import secrets
 import urllib.parse
 from pathlib import Path
 
@@ -24,6 +25,7 @@ from selenium.webdriver.chrome.service import Service
 from selenium.webdriver.common.by import By
 from selenium.webdriver.support.ui import Select, WebDriverWait
 from support.nist_sp1065 import NBS9_Y, TABLE_30
+from support.server import ServerFailed, running_server
 
 ROOT = Path(__file__).resolve().parents[2]
 OEM_SAMPLE = ROOT / "sample_orbits" / "formats" / "kestrel_nav3.oem"  # invented, see sample_orbits/README.md
@@ -61,20 +63,40 @@ def browser(tmp_path_factory):
         driver.quit()
 
 
-def _outside_requests(driver, server: str) -> dict[str, str | None]:
-    """Requests the browser tried since the last call (DevTools performance log) to anywhere but
-    the service, each with the reason the browser blocked it (None: not blocked)."""
-    port = urllib.parse.urlsplit(server).port
-    urls, blocked = {}, {}
+def _network(driver) -> list[dict]:
+    """Requests the browser made since the last call (DevTools performance log): url, method,
+    request headers, response status (None: no response) and the reason it was blocked (if so)."""
+    reqs: dict[str, dict] = {}
     for entry in driver.get_log("performance"):
         msg = json.loads(entry["message"])["message"]
+        params = msg.get("params", {})
         if msg["method"] == "Network.requestWillBeSent":
-            urls[msg["params"]["requestId"]] = msg["params"]["request"]["url"]
+            r = reqs.setdefault(params["requestId"], {"status": None, "blocked": None})
+            r.update(url=params["request"]["url"], method=params["request"]["method"],
+                     headers=params["request"].get("headers", {}))
+        elif msg["method"] == "Network.responseReceived":
+            reqs.setdefault(params["requestId"], {"blocked": None})["status"] = params["response"]["status"]
         elif msg["method"] == "Network.loadingFailed":
-            blocked[msg["params"]["requestId"]] = msg["params"].get("blockedReason")
-    return {url: blocked.get(rid) for rid, url in urls.items()
-            if urllib.parse.urlsplit(url).scheme not in LOCAL_SCHEMES
-            and (urllib.parse.urlsplit(url).hostname, urllib.parse.urlsplit(url).port) != (LOOPBACK, port)}
+            reqs.setdefault(params["requestId"], {"status": None})["blocked"] = params.get("blockedReason")
+    return [r for r in reqs.values() if "url" in r]
+
+
+def _is_service(url: str, server: str) -> bool:
+    u, s = urllib.parse.urlsplit(url), urllib.parse.urlsplit(server)
+    return (u.hostname, u.port) == (LOOPBACK, s.port)
+
+
+def _outside(requests: list[dict], server: str) -> dict[str, str | None]:
+    """Of those requests, the ones to anywhere but the service, each with the reason the browser
+    blocked it (None: not blocked)."""
+    return {r["url"]: r["blocked"] for r in requests
+            if urllib.parse.urlsplit(r["url"]).scheme not in LOCAL_SCHEMES
+            and not _is_service(r["url"], server)}
+
+
+def _outside_requests(driver, server: str) -> dict[str, str | None]:
+    """Requests the browser tried since the last call to anywhere but the service (see _outside)."""
+    return _outside(_network(driver), server)
 
 
 def _severe_console(driver) -> list[str]:
@@ -244,3 +266,122 @@ def test_planner_page_end_to_end(server, browser, tmp_path):
     assert set(outside.values()) <= {"csp"}, outside
     assert all("Content Security Policy" in m for m in _severe_console(d))
     d.save_screenshot(str(tmp_path / "redoc.png"))
+
+
+# --- A service that asks for API keys (app/access.py: TAUBUDGET_API_KEYS, X-API-Key header) ---
+KEY_NAME = "planning-desk"  # an invented key name
+KEYED_SAMPLE = "meo_circular_point_mass"  # a cheap budget sample with a GET /v1/budgets.csv spelling
+CURL_KEY_HEADER = '-H "X-API-Key: $TAUBUDGET_API_KEY"'  # page.js: the curl snippets' key, from the shell
+SHEET_KEY_PARAMETER = "api_key=YOUR_SPREADSHEET_KEY"  # page.js: the spreadsheet cells' placeholder
+KEY_STORAGE_ITEM = "taubudget-api-key"  # page.js: the key, kept for the tab (sessionStorage) only
+PROBLEM_WAIT_S = 60.0  # a refusal needs no computing; the slack is for a busy machine
+
+
+@pytest.fixture(scope="module")
+def api_key() -> str:
+    return "k-" + secrets.token_urlsafe(24)
+
+
+@pytest.fixture(scope="module")
+def keyed_server(api_key):
+    """A second real server, with one API key set through its environment."""
+    try:
+        with running_server(env={"TAUBUDGET_API_KEYS": json.dumps({KEY_NAME: api_key})}) as base:
+            yield base
+    except ServerFailed as exc:
+        pytest.fail(str(exc))
+
+
+def _wait_problem(driver) -> str:
+    """Wait until the budget tab shows a problem (the run has ended); return its text."""
+    def shown(d):
+        box = d.find_element(By.ID, "budget-problem")
+        return box.is_displayed() and d.find_element(By.ID, "run-budget").is_enabled() and box.text
+    return WebDriverWait(driver, PROBLEM_WAIT_S, poll_frequency=0.1).until(shown)
+
+
+def _assert_key_problem(driver, text: str, problem: dict) -> None:
+    """The service's own problem is what the page shows, not pinned to an unrelated form field;
+    the key field is the one marked."""
+    assert problem["status"] == 401 and problem["type"].endswith("unauthorized"), problem
+    assert text.startswith(f"{problem['title']} {problem['detail']}"), text
+    assert all(e["detail"] in text for e in problem["errors"]), (text, problem["errors"])
+    assert driver.find_elements(By.CSS_SELECTOR, "#budget-form .invalid") == []
+    assert "invalid" in driver.find_element(By.ID, "api-key").get_attribute("class")
+
+
+def test_planner_page_with_api_keys(keyed_server, api_key, browser, tmp_path):
+    d = browser
+    d.get_log("performance"), d.get_log("browser")  # drop what earlier tests left in the logs
+    with httpx.Client(base_url=keyed_server, timeout=COMPUTE_WAIT_S) as c:
+        sample = c.get("/openapi.json").json()["paths"]["/v1/budgets"]["post"]["requestBody"]["content"][
+            "application/json"]["examples"][KEYED_SAMPLE]["value"]
+        no_key = c.post("/v1/budgets", json=sample).json()
+        wrong = c.post("/v1/budgets", json=sample, headers={"X-API-Key": api_key[::-1]}).json()
+
+    # 1. The page and its assets are open; its first sample is refused with the service's own 401.
+    d.get(keyed_server + "/")
+    _assert_key_problem(d, _wait_problem(d), no_key)
+    assert not d.find_element(By.ID, "budget-results").is_displayed()
+    d.find_element(By.CSS_SELECTOR, f'#budget-samples [data-sample="{KEYED_SAMPLE}"]').click()
+    _assert_key_problem(d, _wait_problem(d), no_key)
+    before_key = _network(d)
+    page_files = [r for r in before_key if not urllib.parse.urlsplit(r["url"]).path.startswith("/v1")]
+    assert {urllib.parse.urlsplit(r["url"]).path for r in page_files} >= {
+        "/", "/web/page.js", "/web/page.css", "/web/vendor/uPlot.iife.min.js", "/openapi.json"}
+    assert all(r["status"] == 200 for r in page_files), page_files
+    refused = [r for r in before_key if r not in page_files]
+    assert [(r["method"], r["status"]) for r in refused] == [("POST", 401)] * 2, refused
+    assert not any("x-api-key" in map(str.lower, r["headers"]) for r in refused)
+    console = _severe_console(d)  # the two refusals, and no script error
+    assert len(console) == 2 and all("/v1/budgets" in m and "status of 401" in m for m in console), console
+
+    # 2. With the key typed in, the same sample computes; its headline is the API's answer.
+    d.find_element(By.ID, "api-key").send_keys(api_key)
+    d.find_element(By.CSS_SELECTOR, f'#budget-samples [data-sample="{KEYED_SAMPLE}"]').click()
+    _wait_ready(d)
+    assert "invalid" not in d.find_element(By.ID, "api-key").get_attribute("class")
+    href = d.find_element(By.ID, "permalink").get_attribute("href")
+    sent = _permalink_request(href)
+    assert sample["orbit"].items() <= sent["orbit"].items() and sent["series_step_s"] > 0
+    budget = httpx.post(keyed_server + "/v1/budgets", json=sent, headers={"X-API-Key": api_key},
+                        timeout=COMPUTE_WAIT_S).json()
+    shown = _headline(d)
+    assert "mean_rate_us_per_day" in shown and "offset_at_end_ns" in shown
+    assert shown == {f: _dotted(budget, f) for f in shown}
+
+    # A GET link of the page (the budget's CSV) goes with the key in its header, not its URL.
+    d.execute_cdp_cmd("Browser.setDownloadBehavior", {"behavior": "allow", "downloadPath": str(tmp_path)})
+    csv_url = d.find_element(By.ID, "csv-link").get_attribute("href")
+    d.find_element(By.ID, "csv-link").click()
+    saved = tmp_path / "budget-series.csv"
+    WebDriverWait(d, PROBLEM_WAIT_S).until(lambda _: saved.exists())
+    expected_csv = httpx.get(csv_url, headers={"X-API-Key": api_key}, timeout=COMPUTE_WAIT_S)
+    assert expected_csv.status_code == 200
+    assert saved.read_bytes() == expected_csv.content
+
+    # 3. The key does not leak: not into a URL, the page's text, the snippets or lasting storage;
+    # it goes only to the service, in the X-API-Key header.
+    with_key = _network(d)
+    assert _outside(before_key + with_key, keyed_server) == {}
+    calls = [r for r in with_key if urllib.parse.urlsplit(r["url"]).path.startswith("/v1")]
+    assert {(r["method"], urllib.parse.urlsplit(r["url"]).path, r["status"]) for r in calls} == {
+        ("POST", "/v1/budgets", 200), ("GET", "/v1/budgets.csv", 200)}
+    assert all({k.lower(): v for k, v in r["headers"].items()}.get("x-api-key") == api_key for r in calls)
+    assert all(api_key not in r["url"] for r in before_key + with_key)
+    assert api_key not in href and api_key not in d.current_url
+    assert api_key not in d.page_source  # the field's value is a property, never an attribute
+    exports = d.find_element(By.ID, "exports").text
+    assert api_key not in exports
+    assert exports.count(CURL_KEY_HEADER) == 1 and SHEET_KEY_PARAMETER in exports
+    assert d.execute_script("return localStorage.length") == 0 and d.get_cookies() == []
+    assert d.execute_script("return Object.keys(sessionStorage)") == [KEY_STORAGE_ITEM]
+
+    # 4. A wrong key: the service's own refusal again, and the last result marked stale.
+    key_box = d.find_element(By.ID, "api-key")
+    key_box.clear()
+    key_box.send_keys(api_key[::-1])
+    d.find_element(By.ID, "run-budget").click()
+    _assert_key_problem(d, _wait_problem(d), wrong)
+    assert "stale" in d.find_element(By.ID, "budget-results").get_attribute("class")
+    assert _outside_requests(d, keyed_server) == {}
