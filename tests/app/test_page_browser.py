@@ -8,6 +8,12 @@ shows the service's own problem text next to the field the problem's pointer nam
 permalink reproduces the result; the stability tab reproduces NIST SP 1065 Table 30; /docs and
 /redoc render; and no request the browser makes leaves 127.0.0.1. Screenshots are saved in the
 test's tmp directory (printed with -s; kept by pytest under its basetemp).
+
+Against a second server started with an API key (TAUBUDGET_API_KEYS): the page and its assets
+load without one, a sample run without a key or with a wrong one shows the service's own 401
+problem, with the key typed in the sample computes to the API's keyed answer and the CSV link
+saves the keyed GET's answer, and the key goes nowhere but the X-API-Key header of requests to
+the service (not a URL, the page's text, its snippets, localStorage or a cookie).
 """
 
 from __future__ import annotations
