@@ -13,12 +13,12 @@ import argparse
 import json
 import os
 import sys
-import textwrap
 
 from pydantic import ValidationError
 from taubudget.physics.errors import PhysicsInputError
 
 from .input_hints import hint, json_decimal_comma_hint
+from .plain_text import TEXT_WIDTH, fill, key_value_lines, wrap
 from .present.errors import shown
 
 
@@ -80,28 +80,31 @@ def render_table(b: dict) -> str:
          f"{b['nodes_used']} nodes"),
     ]
     width = max(len(k) for k, _ in rows)
-    out = [f"{k:<{width}}  {v}" for k, v in rows]
+    out = key_value_lines(rows, width)
     out.append("")
-    out.append("rate terms (fractional; --json also keeps the round-1 names in terms_fractional):")
-    for name, val in (b.get("rate_terms_fractional") or b["terms_fractional"]).items():
-        out.append(f"  {name:<{width - 2}}  {val: .6e}")
+    out += wrap("rate terms (fractional; --json also keeps the round-1 names in terms_fractional):", 2)
+    terms = b.get("rate_terms_fractional") or b["terms_fractional"]
+    name_width = max(width - 2, *(len(name) for name in terms))
+    for name, val in terms.items():
+        out.append(f"  {name:<{name_width}}  {val: .6e}")
     if b.get("frame") == "BCRS":
-        out.append(f"frame: BCRS. {b.get('tt_convention', '')}")
+        out += wrap(f"frame: BCRS. {b.get('tt_convention', '')}", 2)
         if b.get("position_term"):
-            out.append(f"position term v_B.(x - x_B)/c^2: {b['position_term']['amplitude_ns']:.3f} ns "
-                       "amplitude (in the offset and the max residual; not in the periodic amplitude, "
-                       "which is the clock's own)")
+            out += wrap(f"position term v_B.(x - x_B)/c^2: {b['position_term']['amplitude_ns']:.3f} ns "
+                        "amplitude (in the offset and the max residual; not in the periodic amplitude, "
+                        "which is the clock's own)", 2)
     out.append("omitted terms (size, fractional):")
+    term_width = max(width + 16, *(len(term["term"]) for term in b["omitted_terms"]))
     for term in b["omitted_terms"]:
-        out.append(f"  {term['term']:<{width + 16}}  {term['size_fractional']:.1e}")
+        out.append(f"  {term['term']:<{term_width}}  {term['size_fractional']:.1e}")
     ce = b.get("clock_error")
     if ce:
         out.append("")
         out += _clock_rows(ce, width)
     for warning in b.get("warnings") or []:
-        out.append(f"warning: {warning}")
+        out += wrap(f"warning: {warning}", 2)
     out.append("")
-    out.append(b["caution"])
+    out.append(fill(b["caution"]))
     return "\n".join(out)
 
 
@@ -131,15 +134,10 @@ def _clock_rows(ce: dict, width: int) -> list[str]:
         if ce.get("max_free_running_beyond_span"):
             rows.append(("", "beyond the span: relativistic residual continued from its fit"))
     w = max(width, *(len(k) for k, _ in rows))
-    return ["clock error (clock minus reference, sync at the span start):"] + [
-        f"{k:<{w}}  {v}".rstrip() for k, v in rows]
+    return ["clock error (clock minus reference, sync at the span start):"] + key_value_lines(rows, w)
 
 
 _STAT_COLUMNS = (("mdev", "mdev"), ("tdev_s", "tdev (s)"), ("hdev", "hdev"))
-
-TERMINAL_WIDTH = 96
-"""Prose under the stability table is wrapped to this many columns (the table itself is 97)."""
-
 
 def render_stability(r: dict) -> str:
     """A plain-text deviations table for a terminal (under 100 columns)."""
@@ -151,8 +149,8 @@ def render_stability(r: dict) -> str:
     if r.get("clock_block") is not None:
         notes.append("clock block: --json gives 'clock_block' for a budget's clock "
                      "(taubudget budget REQUEST --clock-from STABILITY_JSON).")
-    out += [textwrap.fill(n, TERMINAL_WIDTH, break_on_hyphens=False) for n in notes]
-    out += ["", textwrap.fill(r["caution"], TERMINAL_WIDTH)]
+    out += [fill(n) for n in notes]
+    out += ["", fill(r["caution"])]
     return "\n".join(out)
 
 
@@ -354,38 +352,104 @@ def _utc_seconds(iso: str) -> str:
     return iso.split(".")[0].rstrip("Z") + "Z"
 
 
-def render_contacts(plan: dict) -> str:
-    """A plain-text summary of a contact plan."""
-    k = plan["k_sigma"]
-    synced = f"{k:g}sig w/ syncs"
-    out = [f"{'station':<18} {'AOS (UTC)':<20} {'LOS (UTC)':<20} {'dur s':>6} {'max el':>6} "
-           f"{'free-run ns':>12} {synced:>14} {'sync':>4} {'pre-sync ns':>11}"]
+def _day_and_time(iso: str) -> tuple[str, str]:
+    """'2027-03-01T09:02:30.792643Z' -> ('2027-03-01', '09:02:30'): the UTC date and the time of
+    day truncated to the second (a leap second's :60 is kept)."""
+    day, _, clock = _utc_seconds(iso).rstrip("Z").partition("T")
+    return day, clock
+
+
+def _los_text(aos_day: str, los_iso: str) -> str:
+    """The LOS time of day, with '+Nd' when it falls N days after the AOS date."""
+    from datetime import date
+
+    day, clock = _day_and_time(los_iso)
+    later = (date.fromisoformat(day) - date.fromisoformat(aos_day)).days
+    return clock if later == 0 else f"{clock}+{later}d"
+
+
+_PASS_COLUMNS_FIXED = 8 + 2 + 2 + (1 + 6) * 2 + (1 + 12) + 1 + (1 + 4) + (1 + 11)
+"""Columns of the pass table besides the station, the LOS and the synced-bound fields."""
+
+
+def _pass_table(plan: dict, synced: str) -> tuple[list[str], bool]:
+    """The pass table: a header, then per pass station, AOS and LOS as UTC times of day under a
+    line naming the AOS date whenever it changes, duration, maximum elevation, free-running
+    offset, bound with syncs, sync flag and bound just before the sync. Station names longer
+    than the room left in TEXT_WIDTH are cut and end in '~' (the second value is whether any
+    was)."""
+    rows = []
     for p in plan["passes"]:
+        day, aos = _day_and_time(p["aos_utc"])
+        rows.append((p, day, aos, _los_text(day, p["los_utc"])))
+    los_w = max(len("LOS UTC"), *(len(r[3]) for r in rows)) if rows else len("LOS UTC")
+    synced_w = max(14, len(synced) + 1)
+    room = TEXT_WIDTH - _PASS_COLUMNS_FIXED - los_w - synced_w
+    longest = max((len(p["station"]) for p in plan["passes"]), default=0)
+    station_w = max(len("station"), min(longest, room))
+    cut = longest > station_w
+
+    def station(name: str) -> str:
+        return name if len(name) <= station_w else name[:station_w - 1] + "~"
+
+    head = (f"{'station':<{station_w}}  {'AOS UTC':<8}  {'LOS UTC':<{los_w}} {'dur s':>6} {'max el':>6} "
+            f"{'free-run ns':>12} {synced:>{synced_w}} {'sync':>4} {'pre-sync ns':>11}")
+    out, current = [head], None
+    for p, day, aos, los in rows:
+        if day != current:
+            out.append(f"-- {day} UTC ".ljust(len(head), "-"))
+            current = day
         bound, before = p.get("bound_at_aos_with_syncs_ns"), p.get("bound_before_sync_ns")
         bound_text = "" if bound is None else f"{bound:.3f}"
         before_text = "" if before is None else f"{before:.3f}"
-        aos, los = _utc_seconds(p["aos_utc"]), _utc_seconds(p["los_utc"])
-        out.append(f"{p['station'][:18]:<18} {aos:<20} {los:<20} {p['duration_s']:6.0f} "
-                   f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} {bound_text:>14} "
-                   f"{'yes' if p.get('used_for_sync') else '':>4} {before_text:>11}".rstrip())
+        out.append(f"{station(p['station']):<{station_w}}  {aos:<8}  {los:<{los_w}} {p['duration_s']:6.0f} "
+                   f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} "
+                   f"{bound_text:>{synced_w}} {'yes' if p.get('used_for_sync') else '':>4} "
+                   f"{before_text:>11}".rstrip())
+    return out, cut
+
+
+def _legend(label: str, text: str) -> list[str]:
+    return wrap(f"{label}: {text}", 2)
+
+
+def render_contacts(plan: dict) -> str:
+    """A plain-text summary of a contact plan (every line within TEXT_WIDTH columns)."""
+    k = plan["k_sigma"]
+    synced = f"{k:g}sig w/ syncs"
+    out = wrap(f"span {_utc_seconds(plan['start_utc'])} .. {_utc_seconds(plan['end_utc'])} "
+               f"({plan['span_s'] / 86400:g} d); times in UTC, truncated to the second", 2)
+    table, cut = _pass_table(plan, synced)
+    out += [""] + table + [""]
+    station = "ground station" + ("; a name ending in '~' is cut to fit (--json and --csv give it in "
+                                  "full)" if cut else "")
+    legend = [
+        ("station", station),
+        ("-- YYYY-MM-DD UTC --", "the UTC date of the AOS times below it"),
+        ("AOS UTC, LOS UTC", "acquisition and loss of signal (the elevation crossing the station's "
+         "mask, or the span's start or end where it cuts the pass), time of day HH:MM:SS; '+Nd': LOS N "
+         "days after the AOS date"),
+        ("dur s", "duration of the pass, s"),
+        ("max el", "maximum elevation in the pass, deg"),
+        ("free-run ns", "offset at AOS running free since the span start, ignoring every sync"),
+        (synced, f"|time error| + {k:g} sigma at AOS with the plan's syncs applied"),
+        ("sync", "'yes' where the plan syncs in that pass"),
+        ("pre-sync ns", f"|time error| + {k:g} sigma just before the sync at that pass"),
+    ]
+    for label, text in legend:
+        out += _legend(label, text)
     rec = plan.get("recommendation") or {}
-    out += [
-        "",
-        "free-run ns: offset at AOS running free since the span start, ignoring every sync;",
-        f"{synced}: |time error| + {k:g} sigma at AOS with the plan's syncs applied;",
-        f"pre-sync ns: |time error| + {k:g} sigma just before the sync at that pass.",
-        "",
+    out += [""] + wrap(
         f"syncs: {len(plan['syncs'])}   worst error: {plan['worst_error_ns']:.3f} ns   "
         f"worst gap: {plan['worst_gap_s']:.0f} s   budget {plan['time_error_budget_ns']:g} ns at "
-        f"{k:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}",
-    ]
+        f"{k:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}", 2)
     if rec.get("summary"):
-        out.append(f"recommendation: {rec['summary']}")
+        out += wrap(f"recommendation: {rec['summary']}", 2)
     if plan["syncs"]:
         worst = max(plan["syncs"], key=lambda s: s["bound_before_sync_ns"])
-        out.append(f"largest error just before a sync: {worst['bound_before_sync_ns']:.3f} ns "
-                   f"({k:g} sigma) at {_utc_seconds(worst['time_utc'])}, {worst['station']}")
-    out += ["", plan["caution"]]
+        out += wrap(f"largest error just before a sync: {worst['bound_before_sync_ns']:.3f} ns "
+                    f"({k:g} sigma) at {_utc_seconds(worst['time_utc'])}, {worst['station']}", 2)
+    out += ["", fill(plan["caution"])]
     return "\n".join(out)
 
 
@@ -438,12 +502,11 @@ def render_clock_residuals(r: dict) -> str:
         rows.append(("residual periodic", "not fitted (the data span less than one orbital period)"))
     if r["epochs_without_orbit"]:
         rows.append(("epochs without orbit", f"{r['epochs_without_orbit']} (left out)"))
-    width = max(len(k) for k, _ in rows)
-    out = [f"{k:<{width}}  {v}" for k, v in rows]
-    out += ["", "assumption: " + r["assumption"]]
+    out = key_value_lines(rows)
+    out += [""] + wrap("assumption: " + r["assumption"], 2)
     if r.get("deviations"):
         out += ["", "deviations of the residual (phase, s):"] + _deviation_lines(r["deviations"])
-    out += ["", r["note"], "", r["caution"]]
+    out += ["", fill(r["note"]), "", fill(r["caution"])]
     return "\n".join(out)
 
 

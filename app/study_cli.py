@@ -22,20 +22,37 @@ import urllib.request
 import uuid
 from pathlib import Path
 
+from .plain_text import TEXT_WIDTH, wrap
+
 FINISHED = ("done", "failed", "cancelled")
 
 
-def progress_line(status: dict, width: int = 30) -> str:
+BAR_WIDTH = (10, 30)
+"""Fewest and most characters of the progress bar; it shrinks so the line fits TEXT_WIDTH."""
+
+
+def progress_line(status: dict) -> str:
     """``[#####.....] 12/40 finished, 1 failed, 3 s elapsed, ~7 s left (running)``."""
     total = status["total"]
     finished = status["done"] + status["failed"]
     frac = finished / total if total else 1.0
-    filled = int(round(width * frac))
     remaining = status.get("estimated_remaining_s")
     left = "" if remaining is None or status["state"] in FINISHED else f", ~{remaining:.0f} s left"
-    bar = "#" * filled + "." * (width - filled)
-    return (f"[{bar}] {finished}/{total} finished, {status['failed']} failed, "
+    text = (f"{finished}/{total} finished, {status['failed']} failed, "
             f"{status['elapsed_s']:.0f} s elapsed{left} ({status['state']})")
+    width = max(BAR_WIDTH[0], min(BAR_WIDTH[1], TEXT_WIDTH - len(text) - 3))
+    filled = int(round(width * frac))
+    return f"[{'#' * filled}{'.' * (width - filled)}] {text}"
+
+
+def study_list_lines(study: dict) -> list[str]:
+    """One study of ``study list``: id, state, finished/total, kind and creation time (UTC, to the
+    second) on one line; its name, if any, on the lines below, indented."""
+    created = study["created_utc"].split(".")[0].rstrip("Z") + "Z"
+    line = (f"{study['id']}  {study['state']:<9}  {study['done'] + study['failed']:>6}/{study['total']:<6}  "
+            f"{study['kind']:<12}  {created}")
+    name = (study.get("name") or "").strip()
+    return [line.rstrip()] + (wrap("    " + name, 4) if name else [])
 
 
 class Progress:
@@ -198,8 +215,7 @@ def cmd_list(args) -> int:
         print(exc.message(), file=sys.stderr)
         return 2
     for s in studies:
-        print(f"{s['id']}  {s['state']:<9}  {s['done'] + s['failed']:>6}/{s['total']:<6}  {s['kind']:<12}  "
-              f"{s['created_utc']}  {s['name'] or ''}")
+        print("\n".join(study_list_lines(s)))
     return 0
 
 
