@@ -524,10 +524,11 @@ def cmd_clock_residuals(args) -> int:
             clock_text, orbit_text, args.sat, periodic_term_in_data=args.periodic_term_in_data,
             orbit_type=args.orbit_type, orbit_object_id=args.orbit_object_id)
     except PhysicsInputError as exc:
-        field, _, reason = shown(exc)
+        field, value, reason = shown(exc)
         name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get(field)
         where = f"{field} {name}" if name else field
-        print(f"invalid input: {where}: {reason}", file=sys.stderr)
+        given = "" if value is None else f" = {value!r}"
+        print(f"invalid input: {where}{given}: {reason}", file=sys.stderr)
         return 2
     if args.json:
         _print_json(result)

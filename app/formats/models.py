@@ -10,10 +10,11 @@ They join the ``Orbit`` union of app/schemas.py (discriminated on ``type``):
 - ``{"type": "state_vector", "epoch": ..., "position_gcrs_km": [x, y, z],
   "velocity_gcrs_km_per_s": [vx, vy, vz]}``: propagated numerically.
 
-OPM and state-vector orbits take an optional ``force_model`` for the propagation (by
-default every EGM2008 zonal term the field carries, J2..J6, plus the Sun and the Moon);
-it is independent of the request's ``gravity`` block, which chooses the potential terms of
-the clock *rate*.
+OPM and state-vector orbits take an optional ``force_model`` for the propagation. Without it
+a budget propagates them under the request's ``gravity`` block (the terms of the clock rate),
+so the trajectory and the rate see one field; where there is no gravity block (measured clock
+residuals), ForceModelIn's defaults apply: every EGM2008 zonal term the field carries, J2..J6,
+plus the Sun and the Moon.
 """
 
 from __future__ import annotations
@@ -36,11 +37,15 @@ class ForceModelIn(ZonalGravityModel):
     earth_zonal_degree: Integer = Field(6, ge=0, le=6, description="0 = point mass; 2..6 = EGM2008 J2..Jn")
 
 
+_RATE_DEGREE = ZonalGravityModel.model_fields["earth_zonal_degree"].default  # the gravity block's
+_FORCE_DEGREE = ForceModelIn.model_fields["earth_zonal_degree"].default
+
 FORCE_MODEL_FIELD = Field(
     None, description="Forces of the numerical propagation. Omitted: the request's gravity block "
-    "(Earth zonal degree, Sun, Moon), so the trajectory and the clock's rate use one field; give it "
+    "(Earth zonal degree, Sun, Moon), so the trajectory and the clock's rate use one field; a request "
+    f"that omits gravity too gets the gravity block's defaults, J2..J{_RATE_DEGREE}, Sun and Moon. Give it "
     "to propagate with other forces than the rate's (e.g. a realistic orbit under a point-mass rate "
-    "model). Without a gravity block (clock residuals): J2..J6, Sun and Moon.")
+    f"model). Where there is no gravity block (clock residuals): J2..J{_FORCE_DEGREE}, Sun and Moon.")
 
 
 _TEXT = Field(min_length=1, max_length=MAX_TEXT_CHARS * 2,

@@ -17,14 +17,15 @@ def utc_text(t) -> str:
     return t.utc_strftime(UTC_S)
 
 
-def _is_time(value) -> bool:
+def is_time(value) -> bool:
+    """Whether ``value`` is an instant (a skyfield Time), which ``shown`` writes in UTC."""
     return hasattr(value, "utc_strftime") and hasattr(value, "tt")
 
 
 def shown(exc: PhysicsInputError) -> tuple[str | None, object, str]:
     """(field, value, reason) with skyfield Times written in UTC: a Time value becomes its text,
     and an instant in ``at`` that the value does not already give is added to the reason."""
-    value = utc_text(exc.value) if _is_time(exc.value) else exc.value
+    value = utc_text(exc.value) if is_time(exc.value) else exc.value
     reason = exc.reason
     if exc.at is not None:
         when = utc_text(exc.at)

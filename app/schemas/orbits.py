@@ -76,4 +76,5 @@ Orbit = Annotated[KeplerianOrbitIn | TleOrbitIn | SurfaceClockIn | OmmOrbitIn | 
 
 
 class GravityIn(ZonalGravityModel):
-    """Terms of the clock's rate (default zonal degree 4)."""
+    """Terms of the clock's rate (default zonal degree 4). Keplerian elements around the Earth follow
+    its zonal field, and a state vector or OPM without its own force_model is propagated under it."""

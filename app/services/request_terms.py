@@ -17,7 +17,7 @@ from contextlib import contextmanager
 from taubudget.physics.errors import PhysicsInputError
 
 from ..formats.models import TEXT_ORBITS, StateVectorOrbitIn
-from ..present.errors import utc_text
+from ..present.errors import is_time, utc_text
 from ..schemas.orbits import KeplerianOrbitIn
 
 
@@ -74,7 +74,10 @@ def request_error(exc: PhysicsInputError, prefix: str,
         if exc.field == "coverage" and hasattr(exc.source, "coverage"):
             return PhysicsInputError(f"{prefix}.text", exc.value, f"{exc.reason}; the data cover "
                                      f"{_coverage_text(exc.source)}", **kw)
-        return PhysicsInputError(f"{prefix}.text", None, f"{exc.field}: {exc.reason}", **kw)
+        # A number in the source's SI unit is not what the file says; an instant (an OPM's epoch)
+        # is, and is written in UTC.
+        value = exc.value if is_time(exc.value) else None
+        return PhysicsInputError(f"{prefix}.text", value, f"{exc.field}: {exc.reason}", **kw)
     fields = {**COMMON_FIELDS, **REQUEST_FIELDS.get(cls, {})} if cls is not None else COMMON_FIELDS
     name, convert = fields.get(exc.field, (exc.field, None))
     field = name if name.startswith("gravity.") else f"{prefix}.{name}"

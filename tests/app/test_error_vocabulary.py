@@ -187,3 +187,33 @@ def test_cli_writes_the_instant_in_utc(tmp_path):
                          capture_output=True, text=True, timeout=120)
     assert run.returncode == 2, run.stderr
     assert "start = '2029-06-01T00:00:00Z'" in run.stderr and "Time" not in run.stderr
+
+
+def test_opm_epoch_far_from_the_span_names_the_epoch_in_utc(client, request_body, problem_of):
+    """The cost check refuses an OPM a year from the span; the OPM's epoch (its EPOCH keyword,
+    2027-03-01T00:00:00.000Z in the sample file) reaches the user in UTC, as a state vector's does."""
+    request_body["orbit"] = {"type": "opm", "text": (SAMPLES / "formats" / "kestrel_nav3.opm").read_text()}
+    request_body["start"], request_body["end"] = "2028-03-01T00:00:00Z", "2028-03-02T00:00:00Z"
+    body = problem_of(client.post("/v1/budgets", json=request_body), 422)
+    assert _error(body)["pointer"] == "/orbit/text"
+    assert "integrated numerically from its epoch" in body["detail"]
+    assert "2027-03-01T00:00:00Z" in body["detail"] and "Time" not in body["detail"]
+
+
+def test_cli_clock_residuals_names_the_instant_the_orbit_file_misses(tmp_path):
+    """A RINEX clock file whose epochs (moved three days on) lie after the SP3 orbit's coverage:
+    exit 2, naming the orbit file's text and the first clock epoch the orbit misses, in UTC. The
+    files' epochs are GPS time; UTC is 18 s behind it in 2027 (TAI - UTC = 37 s since 2017-01-01,
+    IERS Bulletin C 52; GPS = TAI - 19 s, IS-GPS-200 section 3.3.4), so 2027-03-04 00:00:00 GPS
+    is 2027-03-03T23:59:42Z."""
+    clk = (SAMPLES / "formats" / "kestrel_constellation_304.clk").read_text().splitlines()
+    moved = [ln.replace(" 2027 03 02 ", " 2027 03 05 ").replace(" 2027 03 01 ", " 2027 03 04 ")
+             if ln.startswith("AS ") else ln for ln in clk]
+    path = tmp_path / "moved.clk"
+    path.write_text("\n".join(moved) + "\n")
+    run = subprocess.run([sys.executable, "-m", "taubudget.app.cli", "clock-residuals", str(path),
+                          "--orbit", str(SAMPLES / "formats" / "kestrel_constellation.sp3"), "--sat", "L51"],
+                         capture_output=True, text=True, timeout=120)
+    assert run.returncode == 2, run.stderr
+    assert "orbit_file.text" in run.stderr and "never extrapolated" in run.stderr
+    assert "2027-03-03T23:59:42Z" in run.stderr and "Time" not in run.stderr

@@ -86,3 +86,17 @@ def test_a_batch_shares_one_state_per_gravity_block(client):
                                                                        abs=PUBLISHED_DIGITS_US_PER_DAY)
     assert "point-mass Earth;" in by_id["point-mass"]["model"]["orbit"]["propagation"]
     assert "EGM2008 zonal J2..J4, Sun, Moon" in by_id["full"]["model"]["orbit"]["propagation"]
+
+
+def test_the_openapi_document_names_the_forces_a_budget_without_gravity_gets(client):
+    """The force_model description tells a budget request that omits both blocks which field
+    propagates its state: the response's own propagation text is the check."""
+    req = _request(_circular_state())
+    req.pop("gravity")
+    propagation = client.post("/v1/budgets", json=req).json()["model"]["orbit"]["propagation"]
+    forces = propagation.split("forces: EGM2008 zonal ")[1].split(",")[0]  # e.g. "J2..J4"
+    schemas = client.get("/openapi.json").json()["components"]["schemas"]
+    for name in ("StateVectorOrbitIn", "OpmOrbitIn"):
+        assert forces in schemas[name]["properties"]["force_model"]["description"], name
+    # the gravity block says it sets those forces too
+    assert "force_model" in schemas["GravityIn"]["description"]
