@@ -102,9 +102,9 @@ def batch_body(examples: dict) -> dict:
 
 
 CSV_EXAMPLE = (
-    "# taubudget drift budget; offsets are clock minus reference\r\n"
-    "# caution: Planning estimate only. ...\r\n"
     "field,value\r\n"
+    "description,taubudget drift budget; offsets are clock minus reference\r\n"
+    "caution,\"Planning estimate only. ...\"\r\n"
     "mean_fractional_rate,4.4646999955239707e-10\r\n"
     "mean_rate_us_per_day,38.57500796132711\r\n"
 )

@@ -240,10 +240,22 @@ async def _file_plan(request: Request, settings) -> tuple[str, str, dict, list, 
                                                      "detail": "budget or contact_plan"}])
     plan = await uploads.file_batch(up, settings)
     orbit = plan.entries[0][1].model_dump(mode="json", exclude={"object_id"})
-    defaults = {**plan.defaults, "orbit": orbit}
+    defaults = _typed_defaults(kind, {**plan.defaults, "orbit": orbit}, plan.parts)
     entries = [(item["id"], None, {"id": item["id"], "orbit": {"object_id": item["id"]}})
                for item, _, _ in plan.entries]
     return kind, "file", {"defaults": defaults}, entries, len(entries)
+
+
+def _typed_defaults(kind: str, defaults: dict, parts) -> dict:
+    """The defaults of a file study as JSON values: form fields arrive as text ("0.5", "true"), and
+    the workers validate each item strictly, as JSON. Checked here (a 422 naming the field and its
+    part before anything is stored), stored with their types, and only the fields given."""
+    try:
+        typed = study_items.validate(kind, defaults, strict=False)
+    except ValidationError as exc:
+        errors = parts.annotate(validation_errors(exc, defaults, prefix="/defaults"))
+        raise ProblemError.from_problem(validation_problem(errors, "The study")) from exc
+    return typed.model_dump(mode="json", exclude_unset=True) | {"orbit": defaults["orbit"]}
 
 
 def _json_plan(payload: Any, settings) -> tuple[str, dict, Any, int]:
@@ -367,10 +379,13 @@ def _csv(store: Store, s: Study):
 
 @router.get("/studies/{study_id}/results.csv", summary="The finished items as a trade table (CSV)",
             response_class=StreamingResponse,
-            responses={**_ok("id,status,orbit.semi_major_axis_km,mean_rate_us_per_day,...\r\n"
+            responses={**_ok("field,value\r\ndescription,taubudget study ...; one row per item\r\n"
+                             "caution,\"Planning estimate only. ...\"\r\n\r\n"
+                             "id,status,orbit.semi_major_axis_km,mean_rate_us_per_day,...\r\n"
                              "0,200,7000.0,-21.8967,...\r\n", "text/csv",
-                             "One row per finished item: id, status, the swept parameters, headline figures, "
-                             "problem"), **_problems(404, 422, 503)})
+                             "A field,value block (description, caution), an empty row, then one row per "
+                             "finished item: id, status, the swept parameters, headline figures, problem"),
+                       **_problems(404, 422, 503)})
 async def study_results_csv(request: Request, study_id: StudyId):
     """One CSV row per finished item with its swept parameters and headline figures."""
     store, s = await _study(request, study_id)

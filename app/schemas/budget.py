@@ -93,7 +93,10 @@ class EccentricityCorrectionOut(_Open):
     residual_after_correction_ns: float
     residual_peak_to_peak_ns: float
     formula: str
-    analytic_amplitude_ns: float | None = Field(None, description="2 sqrt(a GM) e / c^2 (Keplerian only), ns")
+    analytic_amplitude_ns: float | None = Field(
+        None, description="2 sqrt(a GM) e / c^2 (IS-GPS-200's F e sqrt(A)) with the orbit's mean a and e: "
+        "the Brouwer mean elements in a zonal field (model.orbit gives them), the given elements in a "
+        "point-mass field; Keplerian orbits only, ns")
 
 
 class OmittedTermOut(_Open):

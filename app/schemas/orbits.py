@@ -66,9 +66,12 @@ class SurfaceClockIn(_Strict):
     latitude_deg: float = Field(ge=-90, le=90)
     longitude_deg: float = Field(ge=-180, le=360)
     height_m: float = Field(0.0, description="Height above the WGS-84 ellipsoid (Earth) or the mean "
-                            "sphere (Moon: 1737.4 km, Mars: 3389.5 km), m")
+                            "sphere (Moon: 1737.4 km, Mars: 3389.5 km), m. Omitted with an orthometric "
+                            "height and a geoid undulation: h = H + N")
     geoid_undulation_m: float | None = Field(None, description="Geoid height N above the ellipsoid, m")
-    orthometric_height_m: float | None = Field(None, description="Height above the geoid, m")
+    orthometric_height_m: float | None = Field(None, description="Height H above the geoid, m; give it "
+                                               "with height_m (then N = h - H) or with geoid_undulation_m "
+                                               "(then h = H + N)")
 
 
 Orbit = Annotated[KeplerianOrbitIn | TleOrbitIn | SurfaceClockIn | OmmOrbitIn | OpmOrbitIn | OemOrbitIn

@@ -18,16 +18,16 @@ from ..present.budget import budget as present_budget
 from ..schemas import BudgetRequest, SurfaceClockIn
 from ..settings import Settings, get_settings
 from .clock import clock_error, clock_model
-from .orbits import _time, build_source
+from .orbits import _time, build_source, ellipsoidal_height_m
 from .request_terms import request_error, request_terms
 
 
 def build_span(req: BudgetRequest, settings: Settings) -> Span:
     start = _time(req.start)
     if req.end is not None:
-        duration_s = (req.end - req.start).total_seconds()
-        # TT seconds: UTC spans that cross a leap second are one second longer in TT.
-        duration_s = float((_time(req.end).tt - start.tt) * SECONDS_PER_DAY)
+        # TT seconds (a UTC span across a leap second is one second longer in TT), from the two
+        # parts of skyfield's Julian dates: a single float JD (~2.46e6 days) holds only ~40 us.
+        duration_s = float(Span(start, 1.0).seconds_after_start(_time(req.end)))
         field = "end"
     else:
         duration_s = req.duration_days * SECONDS_PER_DAY
@@ -95,8 +95,8 @@ def _link_station(req: BudgetRequest):
     if st.center != "earth":
         raise PhysicsInputError("link_station.center", st.center, "the link station must be on the Earth")
     try:
-        return SurfaceClock(st.latitude_deg, st.longitude_deg, st.height_m, st.geoid_undulation_m,
-                            st.orthometric_height_m)
+        return SurfaceClock(st.latitude_deg, st.longitude_deg, ellipsoidal_height_m(st, "link_station"),
+                            st.geoid_undulation_m, st.orthometric_height_m)
     except PhysicsInputError as exc:
         raise request_error(exc, "link_station", st) from None
 

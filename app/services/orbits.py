@@ -54,6 +54,20 @@ def _keplerian(orbit: KeplerianOrbitIn, prefix: str, gravity=None):
     )
 
 
+def ellipsoidal_height_m(block: SurfaceClockIn, prefix: str) -> float:
+    """The clock's height above the ellipsoid: ``height_m`` as given, or H + N from an orthometric
+    height and a geoid undulation when ``height_m`` is omitted (an orthometric height alone does
+    not place the clock: the geoid's height above the ellipsoid is needed)."""
+    if block.orthometric_height_m is None or "height_m" in block.model_fields_set:
+        return block.height_m
+    if block.geoid_undulation_m is None:
+        raise PhysicsInputError(
+            f"{prefix}.orthometric_height_m", block.orthometric_height_m,
+            "an orthometric height H needs the geoid undulation N (geoid_undulation_m) to place the clock "
+            "on the ellipsoid (h = H + N), or the ellipsoidal height height_m with it")
+    return block.orthometric_height_m + block.geoid_undulation_m
+
+
 def _surface(orbit: SurfaceClockIn, prefix: str, gravity=None):
     if orbit.center != "earth":
         if prefix == "reference":
@@ -64,7 +78,7 @@ def _surface(orbit: SurfaceClockIn, prefix: str, gravity=None):
                                     "geoid undulation and orthometric height apply to Earth clocks only")
         return BodySurfaceClock(orbit.center, orbit.latitude_deg, orbit.longitude_deg, orbit.height_m)
     return SurfaceClock(
-        orbit.latitude_deg, orbit.longitude_deg, orbit.height_m,
+        orbit.latitude_deg, orbit.longitude_deg, ellipsoidal_height_m(orbit, prefix),
         orbit.geoid_undulation_m, orbit.orthometric_height_m,
     )
 

@@ -80,9 +80,10 @@ def _model(kind: str):
     return BudgetRequest
 
 
-def validate(kind: str, body: Any):
-    """The request model of ``kind``; raises pydantic's ValidationError."""
-    return _model(kind).model_validate(body)
+def validate(kind: str, body: Any, strict: bool | None = None):
+    """The request model of ``kind``; raises pydantic's ValidationError. ``strict=False`` converts
+    text values (form fields)."""
+    return _model(kind).model_validate(body, strict=strict)
 
 
 def run_request(kind: str, body: Any, settings: Settings, source=None) -> tuple[int, dict]:

@@ -90,17 +90,23 @@ def rows(records: Iterable[tuple[Any, dict | None, int, dict]],
                "" if status == 200 else cell(body.get("detail", ""))]
 
 
-def header_lines(what: str) -> list[str]:
-    return [f"# taubudget {what}; offsets are clock minus reference; one row per item",
-            f"# caution: {CAUTION}"]
+def header_lines(what: str) -> list[list[str]]:
+    """The field,value block above the table (no '#' comment lines: a CSV reader keeps these rows,
+    and the caution stays in one quoted cell), then the empty row that separates it from the table,
+    as in the budget CSV."""
+    return [["field", "value"],
+            ["description", f"taubudget {what}; offsets are clock minus reference; one row per item"],
+            ["caution", CAUTION], []]
 
 
-def render_lines(header: list[str], table: Iterable[list[str]]) -> Iterator[str]:
-    """The CSV text in pieces (a header line or one row each), for streaming."""
-    for line in header:
-        yield line + _LINE
+def render_lines(header: list[list[str]], table: Iterable[list[str]]) -> Iterator[str]:
+    """The CSV text in pieces (the header block, then one row each), for streaming."""
     buf = io.StringIO()
     writer = csv.writer(buf, lineterminator=_LINE)
+    writer.writerows([safe_cell(c) for c in row] for row in header)
+    yield buf.getvalue()
+    buf.seek(0)
+    buf.truncate()
     for row in table:
         writer.writerow(row)
         yield buf.getvalue()

@@ -28,6 +28,7 @@ from .inputs import (
     BudgetInputs,
     check_series,
     check_span,
+    check_span_covers_an_orbit,
     check_tle_epoch,
     initial_panel_s,
     series_times_s,
@@ -83,7 +84,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     single_threaded_blas()
     span, src = inputs.span, inputs.source
     check_span(span)
-    warnings = check_tle_epoch(src, span)
+    warnings = check_tle_epoch(src, span) + check_span_covers_an_orbit(src, span)
     n_series = check_series(inputs)
     env = environment_for(span)
     frame = build_frame(src, inputs.reference, inputs.gravity, span, env, inputs.frame)

@@ -66,6 +66,20 @@ def initial_panel_s(source, nodes_scale: float = 1.0) -> float:
     return max(MIN_PANEL_S, base) / nodes_scale
 
 
+def check_span_covers_an_orbit(src, span: Span) -> list[str]:
+    """Warn when an Earth orbit's span is shorter than one orbital period: its J2 and tidal periodic
+    terms (not removed as known bounded parts, unlike the eccentricity term) cannot be told apart
+    from the secular line there; the fit phases its harmonics in over the first period."""
+    period_s = src.period_s()
+    earth_orbit = getattr(src, "frame", "GCRS") == "GCRS" and not src.is_surface
+    if not earth_orbit or period_s is None or span.duration_s >= period_s:
+        return []
+    return [f"the span ({span.duration_s / 3600.0:.3g} h) is shorter than one orbit "
+            f"({period_s / 3600.0:.3g} h): the periodic term cannot be separated from the mean rate, "
+            "so the mean rate, the frequency preset and the periodic amplitudes are uncertain; use a "
+            "span of at least one orbit (several for the harmonics)"]
+
+
 def check_tle_epoch(src, span: Span) -> list[str]:
     """Refuse SGP4 propagation a year or more from the TLE epoch; warn beyond a month."""
     epoch = src.epoch() if hasattr(src, "epoch") else None
@@ -97,7 +111,7 @@ def check_span(span: Span):
     if jd0 < DE421_FIRST_JD_TDB or jd1 > DE421_LAST_JD_TDB:
         raise PhysicsInputError(
             "end" if jd0 >= DE421_FIRST_JD_TDB else "start",
-            span.start if jd0 < DE421_FIRST_JD_TDB else None,
+            span.start if jd0 < DE421_FIRST_JD_TDB else span.times(span.duration_s),
             "the span must lie inside the DE421 ephemeris (1899-07-30 to 2053-10-07) that "
             "supplies the Sun and Moon positions",
         )

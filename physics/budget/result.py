@@ -59,7 +59,8 @@ class EccentricityCorrection:
     """Largest |offset - secular line - correction| over the span (mean removed)."""
     residual_peak_to_peak_s: float
     analytic_amplitude_s: float | None
-    """2 sqrt(a GM) e / c^2, for Keplerian orbits; None otherwise."""
+    """2 sqrt(a GM) e / c^2 with the source's mean a and e (Brouwer mean elements in a zonal field,
+    the given ones in a point-mass field), for Keplerian orbits; None otherwise."""
     formula: str
     applicable: bool = True
     """False for a clock with no orbit of its own around a centre (fixed on the Moon or Mars)."""

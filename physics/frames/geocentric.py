@@ -21,10 +21,12 @@ from ..constants import (
     GM_MOON_M3_PER_S2,
     GM_PLANET_SYSTEMS_M3_PER_S2,
     GM_SUN_M3_PER_S2,
+    GRS80_U0_M2_PER_S2,
     MAX_ZONAL_DEGREE,
     MEAN_MOON_DISTANCE_M,
     NOMINAL_GRAVITY_M_PER_S2,
     VENUS_CLOSEST_DISTANCE_M,
+    W0_M2_PER_S2,
 )
 from ..potential.earth import omitted_zonal_size
 from ..rate import TERM_NAMES, integrand_terms
@@ -79,6 +81,12 @@ class GeocentricFrame(Frame):
             out.append(OmittedTerm(
                 "solid_earth_tides_and_loading", 3e-17,
                 "station height changes of ~0.3 m times g/c^2 (common practice); periodic"))
+            out.append(OmittedTerm(
+                "geoid_potential_convention", (GRS80_U0_M2_PER_S2 - W0_M2_PER_S2) / C2_M2_PER_S2,
+                "the geoid is the GRS80 normal field's level surface U0 = 62 636 860.850 m^2/s^2 "
+                "(Moritz 2000); TT's rate is defined by W0 = 62 636 856.0 m^2/s^2 (IERS TN36 Table 1.1): "
+                "a clock on this geoid reads about -(U0 - W0)/c^2 against TT, some 0.5 m of height; "
+                "systematic, not periodic"))
             if src.geoid_undulation_m is None:
                 out.append(OmittedTerm(
                     "geoid_undulation", GEOID_UNDULATION_MAX_M * NOMINAL_GRAVITY_M_PER_S2 / C2_M2_PER_S2,

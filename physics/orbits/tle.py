@@ -19,8 +19,9 @@ import numpy as np
 from sgp4.api import SGP4_ERRORS
 from skyfield.api import EarthSatellite
 
+from ..constants import EARTH_EQUATORIAL_RADIUS_M
 from ..errors import PhysicsInputError
-from .base import OrbitSource, States
+from .base import OrbitSource, States, check_perigee_altitude
 
 
 def tle_checksum_ok(line: str) -> bool:
@@ -29,6 +30,20 @@ def tle_checksum_ok(line: str) -> bool:
         return False
     total = sum(int(ch) if ch.isdigit() else (1 if ch == "-" else 0) for ch in line[:68])
     return total % 10 == int(line[68])
+
+
+def _check_perigee(rec, field: str, value) -> None:
+    """Refuse mean elements whose perigee lies inside the Earth or below 100 km, before SGP4 runs
+    into a decay error mid-span. ``rec.altp``: SGP4's perigee height, Earth radii (WGS-72)."""
+    perigee_radius_m = (float(rec.altp) + 1.0) * float(rec.radiusearthkm) * 1e3
+    if perigee_radius_m <= EARTH_EQUATORIAL_RADIUS_M:
+        raise PhysicsInputError(
+            field, value,
+            f"the mean elements' perigee radius {perigee_radius_m / 1e3:.0f} km (mean motion "
+            f"{float(rec.no_kozai) * 1440.0 / (2.0 * np.pi):.6g} rev/day, "
+            f"eccentricity {float(rec.ecco):.6g}) "
+            f"is below the Earth's equatorial radius {EARTH_EQUATORIAL_RADIUS_M / 1e3:.0f} km")
+    check_perigee_altitude(perigee_radius_m, field, value)
 
 
 class TleOrbit(OrbitSource):
@@ -65,6 +80,7 @@ class TleOrbit(OrbitSource):
             )
         if rec.no_kozai <= 0.0:
             raise PhysicsInputError("line2", line2, "mean motion must be positive")
+        _check_perigee(rec, "line2", line2)
         self.line1, self.line2 = line1, line2
 
     @classmethod
@@ -72,6 +88,7 @@ class TleOrbit(OrbitSource):
         """Wrap an already initialised ``sgp4.api.Satrec`` (e.g. from ``sgp4init``)."""
         if satrec.error:
             raise PhysicsInputError("orbit", None, f"SGP4 rejects the elements: {SGP4_ERRORS[satrec.error]}")
+        _check_perigee(satrec, "orbit", None)
         self = cls.__new__(cls)
         self.sat = EarthSatellite.from_satrec(satrec, ts)
         self.sat.name = name

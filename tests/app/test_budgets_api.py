@@ -92,6 +92,8 @@ def test_span_beyond_ephemeris(client, request_body, problem_of, pointers_of):
     p = problem_of(client.post("/v1/budgets", json=request_body), 422)
     assert pointers_of(p)[0] in ("/start", "/end")
     assert "DE421" in p["detail"]
+    # the offending instant is named, in UTC, at either end of the ephemeris
+    assert "= '2060-01-02T00:00:00Z'" in p["detail"]
 
 
 def test_span_over_limit_names_the_limit(small_client, request_body, problem_of, pointers_of):

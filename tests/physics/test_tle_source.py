@@ -57,3 +57,21 @@ def test_leo_budget_runs_with_sun_and_moon(ts):
     # A ~700 km LEO clock loses on TT: velocity dominates (common practice: about -25 us/day).
     assert -30.0 < b["mean_rate_us_per_day"] < -20.0
     assert b["integration_error_estimate_ps_per_day"] < 1.0
+
+
+def test_perigee_inside_the_earth_is_refused_before_propagation(ts):
+    """Mean motion 2.0056 rev/day, e = 0.95: a = (GM / n^2)^(1/3) = 26,562 km (Kepler's third law,
+    WGS-72 GM = 398600.8 km^3/s^2 as SGP4 uses), perigee radius a (1 - e) = 1,328 km: inside the
+    Earth. It used to fail mid-span with SGP4's decay error."""
+    def line(text):
+        return text + str(sum(int(c) if c.isdigit() else (1 if c == "-" else 0) for c in text) % 10)
+
+    l1 = line("1 99873U 27903A   27060.25000000  .00000000  00000-0  00000-0 0  999")
+    l2 = line("2 99873  63.4000 100.0000 9500000 270.0000  10.0000  2.00560000  123")
+    n_rad_per_s = 2.0056 * 2 * np.pi / 86400.0
+    perigee_km = (398600.8 / n_rad_per_s**2) ** (1 / 3) * (1 - 0.95)
+    with pytest.raises(PhysicsInputError) as info:
+        TleOrbit(l1, l2, ts)
+    assert info.value.field == "line2" and "below the Earth's equatorial radius" in info.value.reason
+    quoted_km = float(info.value.reason.split("perigee radius ")[1].split(" km")[0])
+    assert quoted_km == pytest.approx(perigee_km, rel=2e-3)  # SGP4's un-Kozai'd a differs by ~1e-3

@@ -44,7 +44,10 @@ def json_lines(text: str) -> list[dict]:
 
 
 def csv_rows(text: str) -> list[dict]:
-    body = "\n".join(line for line in text.splitlines() if not line.startswith("#"))
+    """The table of a batch or study CSV: the rows after the field,value block and its empty row."""
+    lines = text.splitlines()
+    assert lines[0] == "field,value" and "" in lines, lines[:4]
+    body = "\n".join(lines[lines.index("") + 1:])
     return list(csv.DictReader(io.StringIO(body)))
 
 

@@ -210,3 +210,25 @@ def test_a_huge_list_offset_is_a_422_not_a_database_error(study_client, problem_
     # Fuzzing found "Python int too large to convert to SQLite INTEGER" (a 500) for a huge offset.
     p = problem_of(study_client.get("/v1/studies", params={"offset": 10**20}), 422)
     assert "/offset" in json.dumps(p["errors"])
+
+
+def test_a_file_study_takes_its_options_as_form_fields(study_client):
+    """Form fields are text ("0.5", "false"); the workers validate items as JSON. They used to fail
+    every item ("'0.5' is not a number"); the study now stores them typed, and its items equal the
+    same file sent to the batch route with the same form fields."""
+    c = study_client
+    form = {"start": "2027-03-01T01:00:00Z", "duration_days": "0.5", "reference": "TAI",
+            "gravity": '{"earth_zonal_degree": 2, "sun": false, "moon": false}'}
+    files = {"file": ("fleet.tle", (SAMPLES / "formats" / "kestrel_fleet.tle").read_bytes())}
+    resp = c.post("/v1/studies", files=files, data=form)
+    assert resp.status_code == 202, resp.text
+    status = wait_finished(c.get, resp.json()["id"])
+    assert (status["done"], status["failed"]) == (3, 0), status
+    lines = json_lines(c.get(f"/v1/studies/{status['id']}/results").text)
+    batch = c.post("/v1/budgets/batch", files=files, data=form).json()["items"]
+    for r, b in zip(lines, batch, strict=True):
+        assert r["budget"] == b["budget"]
+    # text that is not a number is named before anything is stored
+    bad = c.post("/v1/studies", files=files, data={**form, "duration_days": "half"})
+    assert bad.status_code == 422, bad.text
+    assert bad.json()["errors"][0]["pointer"] == "/defaults/duration_days"
