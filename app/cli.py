@@ -254,7 +254,8 @@ def _print_json(obj) -> None:
 def _physics_failure(exc: PhysicsInputError, what: str) -> int:
     """Print a physics input error naming the field, value and reason; the exit code for bad input."""
     field, value, reason = shown(exc)
-    print(f"{what}: {field} = {value!r}: {reason}", file=sys.stderr)
+    given = "" if value is None else f" = {value!r}"
+    print(f"{what}: {field or 'the request'}{given}: {reason}", file=sys.stderr)
     return 2
 
 
@@ -525,7 +526,8 @@ def cmd_clock_residuals(args) -> int:
             orbit_type=args.orbit_type, orbit_object_id=args.orbit_object_id)
     except PhysicsInputError as exc:
         field, value, reason = shown(exc)
-        name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get(field)
+        # the file a field belongs to (orbit_file.text is the orbit file's text), by its path
+        name = {"clock_file": args.clock_file, "orbit_file": args.orbit}.get((field or "").split(".")[0])
         where = f"{field} {name}" if name else field
         given = "" if value is None else f" = {value!r}"
         print(f"invalid input: {where}{given}: {reason}", file=sys.stderr)

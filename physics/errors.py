@@ -27,3 +27,11 @@ class PhysicsInputError(ValueError):
         self.reason = reason
         self.source = source
         self.at = at
+
+    def __reduce__(self):
+        """Picklable (a Dask worker may hand one back): the source object stays behind."""
+        return (_rebuild, (type(self), self.field, self.value, self.reason, self.at))
+
+
+def _rebuild(cls, field, value, reason, at):
+    return cls(field, value, reason, at=at)

@@ -217,3 +217,4 @@ def test_cli_clock_residuals_names_the_instant_the_orbit_file_misses(tmp_path):
     assert run.returncode == 2, run.stderr
     assert "orbit_file.text" in run.stderr and "never extrapolated" in run.stderr
     assert "2027-03-03T23:59:42Z" in run.stderr and "Time" not in run.stderr
+    assert "kestrel_constellation.sp3" in run.stderr  # the file the error is about, by its path

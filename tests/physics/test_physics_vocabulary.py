@@ -41,3 +41,17 @@ def test_the_app_maps_the_zonal_degree_to_the_gravity_block():
         # a degree the request schema refuses, built unvalidated to reach the physics check
         build_source(orbit, prefix="orbit", gravity=GravityIn.model_construct(earth_zonal_degree=1))
     assert (info.value.field, info.value.value) == ("gravity.earth_zonal_degree", 1)
+
+
+def test_the_error_pickles_without_its_source():
+    """A Dask worker may hand an error back to the scheduler: it pickles, its instant kept, the
+    (possibly large) orbit source left behind."""
+    import pickle
+
+    from taubudget.physics.ephemeris import timescale
+
+    at = timescale().utc(2027, 3, 1, 12)
+    exc = PhysicsInputError("coverage", at, "outside the data", source=object(), at=at)
+    back = pickle.loads(pickle.dumps(exc))
+    assert (back.field, back.reason, back.source) == ("coverage", "outside the data", None)
+    assert back.at.utc_strftime("%Y-%m-%dT%H:%M:%SZ") == "2027-03-01T12:00:00Z"
