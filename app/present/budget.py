@@ -23,8 +23,9 @@ POSITION_TERM_NOTE = (
     "coordinate position term -(v_B.(x - x_B))/c^2 of the clock's local frames (the geocentre, and the "
     "Moon inside it, for the Earth-Moon system; Mars for Mars) minus the reference's (the Moon's centre "
     "for lunar_surface): the part of TCB - TCG that TT along the geocentre leaves out (TN36 eq. 10.4); "
-    "a bounded total derivative, kept in the offset and in periodic.amplitude_with_position_term_ns, "
-    "removed before the secular fit and from periodic.amplitude_ns"
+    "a bounded total derivative, kept in the offset, in periodic.amplitude_with_position_term_ns and in "
+    "eccentricity_correction.residual_after_correction_with_position_term_ns; removed before the secular "
+    "fit and from periodic.amplitude_ns, periodic.components and the residual after the correction"
 )
 
 
@@ -129,6 +130,8 @@ def budget(b: BudgetResult, reference) -> dict:
     }
     if ecc.analytic_amplitude_s is not None:
         correction["analytic_amplitude_ns"] = ns(ecc.analytic_amplitude_s)
+    if ecc.residual_with_position_term_s is not None:
+        correction["residual_after_correction_with_position_term_ns"] = ns(ecc.residual_with_position_term_s)
     out = {
         "mean_fractional_rate": b.mean_fractional_rate,
         "mean_rate_us_per_day": us_per_day(b.mean_fractional_rate),

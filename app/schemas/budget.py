@@ -90,8 +90,14 @@ class EccentricityCorrectionOut(_Open):
         True, description="Whether the residual figures include it (applicable and "
         "apply_eccentricity_correction)")
     amplitude_ns: float = Field(description="Amplitude of -(2/c^2) r.v over the span (extremes refined), ns")
-    residual_after_correction_ns: float
+    residual_after_correction_ns: float = Field(
+        description="Largest |periodic part - correction| over the span, of the clock's own periodic part "
+        "(as periodic.amplitude_ns: for a barycentric budget without the coordinate position term, "
+        "which position_term reports), ns")
     residual_peak_to_peak_ns: float
+    residual_after_correction_with_position_term_ns: float | None = Field(
+        None, description="Barycentric budgets: the same with the coordinate position term kept, as a "
+        "comparison in barycentric coordinates sees it, ns")
     formula: str
     analytic_amplitude_ns: float | None = Field(
         None, description="2 sqrt(a GM) e / c^2 (IS-GPS-200's F e sqrt(A)) with the orbit's mean a and e: "

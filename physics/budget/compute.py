@@ -23,7 +23,7 @@ from ..frames.choose import build_frame
 from ..quadrature import NodeBudgetExceeded, integrate
 from ..threads import single_threaded_blas
 from . import periodic as per
-from .fit import fit_secular, trapezoid_weights
+from .fit import fit_secular, harmonic_coefficients, trapezoid_weights
 from .inputs import (
     BudgetInputs,
     check_series,
@@ -111,11 +111,20 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     line = fit.rate * (t - 0.5 * span.duration_s)
     shift = per.weighted_mean(total - line, weights)
     periodic = total - line - shift
-    residual = periodic - (ecc - per.weighted_mean(ecc, weights) if applied else 0.0)
-    harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
-    comps = per.components(periodic, t, period, harmonics, span.duration_s)
     position = frame.position_term_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
     not_own = frame.not_the_clocks_own_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
+    # The clock's own periodic part: in the BCRS, the coordinate position term (and a TT-like
+    # reference's TDB - TT) is reported on its own; the amplitude, the components and the residual
+    # after the correction all describe the rest.
+    own = periodic - (not_own - per.weighted_mean(not_own, weights))
+    ecc_centred = ecc - per.weighted_mean(ecc, weights) if applied else 0.0
+    residual = own - ecc_centred
+    harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
+    if harmonics is not None and frame.name == "BCRS":
+        not_own_coef = harmonic_coefficients(t, not_own, span.duration_s, period, fit.harmonics)
+        # (the same harmonics unless this grid's conditioning dropped some: then from ``own`` alone)
+        harmonics = harmonics - not_own_coef if len(not_own_coef) == len(harmonics) else None
+    comps = per.components(own, t, period, harmonics, span.duration_s)
 
     def periodic_at(ts):
         return q.cumulative_at(ts, rows=[0])[0] - fit.rate * ts
@@ -124,11 +133,15 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
         return periodic_at(ts) - (frame.not_the_clocks_own_s(q, ts) if frame.name == "BCRS" else 0.0)
 
     def residual_at(ts):
-        return periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
+        return own_periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
 
     p2p = refined_peak_to_peak(periodic_at, t, periodic)
     own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - not_own)
     residual_p2p = refined_peak_to_peak(residual_at, t, residual)
+    with_position = None
+    if frame.name == "BCRS":
+        kept = residual + (not_own - per.weighted_mean(not_own, weights))
+        with_position = float(np.max(np.abs(kept - per.weighted_mean(kept, weights))))
     ecc_amp = 0.5 * refined_peak_to_peak(ecc_part.offset_s, t, ecc) if offered else 0.0
     i_ext = int(np.argmax(np.abs(total)))
     analytic = None
@@ -163,7 +176,8 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
         eccentricity_correction=EccentricityCorrection(
             ecc_amp, float(np.max(np.abs(residual))), residual_p2p,
             None if analytic is None else float(analytic),
-            ECCENTRICITY_FORMULA if offered else NOT_OFFERED_FORMULA, bool(offered), bool(applied)),
+            ECCENTRICITY_FORMULA if offered else NOT_OFFERED_FORMULA, bool(offered), bool(applied),
+            with_position),
         position_term=None if frame.name != "BCRS" else PositionTerm(
             per.half_peak_to_peak(position), frame.position_base),
         integration=Integration(q.error_estimate_s, q.node_count, int(len(q.edges_s) - 1),

@@ -170,6 +170,15 @@ def fit_secular(q: PanelIntegral, term_names: Sequence[str], parts: Sequence[Bou
     return SecularFit(float(slope[0]), term_rates, harmonics, weight, raw, condition, description)
 
 
+def harmonic_coefficients(t_s: np.ndarray, series_s: np.ndarray, span_s: float, period_s: float,
+                          harmonics: int) -> np.ndarray:
+    """Cos/sin coefficient pairs (s) of ``series_s`` on the orbital harmonics, fitted jointly with a
+    line as ``fit_secular`` does (same basis and weights): the components of a part of the offset."""
+    rows = np.asarray(series_s, dtype=float)[None, :]
+    coef, _, _ = _solve(t_s, trapezoid_weights(t_s), rows, span_s, period_s, harmonics)
+    return coef[0, 2:]
+
+
 def fit_line_and_harmonics(t_s: np.ndarray, offset_s: np.ndarray, period_s: float | None) -> float:
     """Secular rate of one offset sampled on its own grid ``t_s`` (e.g. a reference's), with the
     same harmonics and ramp as ``fit_secular``; per second."""

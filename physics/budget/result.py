@@ -56,7 +56,9 @@ class EccentricityCorrection:
 
     amplitude_s: float
     residual_after_correction_s: float
-    """Largest |offset - secular line - correction| over the span (mean removed)."""
+    """Largest |offset - secular line - correction| over the span (mean removed), of the clock's own
+    periodic part: in the BCRS without the coordinate position term (and a TT-like reference's own
+    TDB - TT), which ``PositionTerm`` reports, as ``PeriodicPart.amplitude_s`` is."""
     residual_peak_to_peak_s: float
     analytic_amplitude_s: float | None
     """2 sqrt(a GM) e / c^2 with the source's mean a and e (Brouwer mean elements in a zonal field,
@@ -66,6 +68,9 @@ class EccentricityCorrection:
     """False for a clock with no orbit of its own around a centre (fixed on the Moon or Mars)."""
     applied: bool = True
     """Whether the residual figures include the correction (applicable and requested)."""
+    residual_with_position_term_s: float | None = None
+    """BCRS: the largest residual with the coordinate position term kept (what a comparison in
+    barycentric coordinates sees); None in the GCRS, where there is none."""
 
 
 @dataclass(frozen=True)
