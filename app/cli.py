@@ -405,9 +405,47 @@ def _pass_table(plan: dict, synced: str) -> tuple[list[str], bool]:
         before_text = "" if before is None else f"{before:.3f}"
         out.append(f"{station(p['station']):<{station_w}}  {aos:<8}  {los:<{los_w}} {p['duration_s']:6.0f} "
                    f"{p['max_elevation_deg']:6.2f} {p['offset_at_aos_ns']:12.3f} "
-                   f"{bound_text:>{synced_w}} {'yes' if p.get('used_for_sync') else '':>4} "
-                   f"{before_text:>11}".rstrip())
+                   f"{bound_text:>{synced_w}} {_sync_mark(p):>4} {before_text:>11}".rstrip())
     return out, cut
+
+
+def _sync_mark(p: dict) -> str:
+    """The pass table's sync column: '' (no sync), 'yes' (one) or the number of syncs in the pass."""
+    count = p.get("sync_count", 1 if p.get("used_for_sync") else 0)
+    if not p.get("used_for_sync"):
+        return ""
+    return "yes" if count <= 1 else str(count)
+
+
+SYNC_LIST_LINES = 50
+"""Most syncs the text lists one per line (--json and --csv give them all)."""
+
+
+def _sync_table(plan: dict) -> list[str]:
+    """The policy's syncs one per line (time, station, hours since the previous sync, bound just
+    before it), printed when a pass holds several of them (a long pass under fixed_interval)."""
+    k = plan["k_sigma"]
+    syncs = plan["syncs"]
+    head = f"{'sync UTC':<20}  {'h since prev':>12}  {f'{k:g}sig pre-sync ns':>18}  station"
+    out = [f"syncs by the policy ({len(syncs)}; some passes hold several):", head]
+    room = TEXT_WIDTH - len(head) + len("station")
+    for s in syncs[:SYNC_LIST_LINES]:
+        name = s["station"] if len(s["station"]) <= room else s["station"][:room - 1] + "~"
+        out.append(f"{_utc_seconds(s['time_utc']):<20}  {s['time_since_previous_sync_s'] / 3600:12.3f}  "
+                   f"{s['bound_before_sync_ns']:18.3f}  {name}")
+    if len(syncs) > SYNC_LIST_LINES:
+        out.append(f"... {len(syncs) - SYNC_LIST_LINES} more (--json and --csv give them all)")
+    return out
+
+
+def _recommended_syncs(rec: dict) -> list[str]:
+    """The recommended syncs in words, when the recommendation syncs more than once in a pass."""
+    syncs = rec.get("syncs") or []
+    if (rec.get("max_syncs_in_one_pass") or 0) <= 1 or not syncs:
+        return []
+    shown = ", ".join(f"{_utc_seconds(s['time_utc'])} {s['station']}" for s in syncs[:SYNC_LIST_LINES])
+    more = f", ... {len(syncs) - SYNC_LIST_LINES} more (--json)" if len(syncs) > SYNC_LIST_LINES else ""
+    return wrap(f"recommended syncs (inside passes): {shown}{more}", 2)
 
 
 def _legend(label: str, text: str) -> list[str]:
@@ -434,8 +472,9 @@ def render_contacts(plan: dict) -> str:
         ("max el", "maximum elevation in the pass, deg"),
         ("free-run ns", "offset at AOS running free since the span start, ignoring every sync"),
         (synced, f"|time error| + {k:g} sigma at AOS with the plan's syncs applied"),
-        ("sync", "'yes' where the plan syncs in that pass"),
-        ("pre-sync ns", f"|time error| + {k:g} sigma just before the sync at that pass"),
+        ("sync", "'yes' where the plan syncs in that pass, or how many times it syncs in it"),
+        ("pre-sync ns", f"|time error| + {k:g} sigma just before the sync at that pass (the largest, "
+         "if it holds several)"),
     ]
     for label, text in legend:
         out += _legend(label, text)
@@ -446,10 +485,13 @@ def render_contacts(plan: dict) -> str:
         f"{k:g} sigma: {'met' if plan['meets_budget'] else 'NOT met'}", 2)
     if rec.get("summary"):
         out += wrap(f"recommendation: {rec['summary']}", 2)
+    out += _recommended_syncs(rec)
     if plan["syncs"]:
         worst = max(plan["syncs"], key=lambda s: s["bound_before_sync_ns"])
         out += wrap(f"largest error just before a sync: {worst['bound_before_sync_ns']:.3f} ns "
                     f"({k:g} sigma) at {_utc_seconds(worst['time_utc'])}, {worst['station']}", 2)
+    if any((p.get("sync_count") or 0) > 1 for p in plan["passes"]):
+        out += [""] + _sync_table(plan)
     out += ["", fill(plan["caution"])]
     return "\n".join(out)
 

@@ -186,6 +186,7 @@ PASS_COLUMNS = (
     "offset_at_aos_ns", "offset_at_los_ns", "error_at_aos_with_syncs_ns", "bound_at_aos_with_syncs_ns",
     "bound_before_sync_ns",
     "light_time_us", "sagnac_correction_ns", "fractional_frequency_shift", "used_for_sync",
+    "sync_count",
 )
 
 PLAN_SUMMARY_FIELDS = ("start_utc", "end_utc", "span_s", "meets_budget", "worst_error_ns",
@@ -204,6 +205,7 @@ def passes_csv(plan: dict) -> str:
         ["recommendation", rec.get("summary", "")],
         ["max_time_between_syncs_s", format_value(rec.get("max_time_between_syncs_s"))],
         ["largest_pass_stride_meeting_budget", format_value(rec.get("largest_pass_stride_meeting_budget"))],
+        ["fixed_interval_s_meeting_budget", format_value(rec.get("fixed_interval_s_meeting_budget"))],
         ["offset_at_aos_ns", "free-running offset since the span start, ignoring syncs (so is _los_)"],
         ["bound_at_aos_with_syncs_ns", "|error| + k_sigma x 1-sigma at AOS with the plan's syncs applied"],
     ]

@@ -18,6 +18,9 @@ from .clock import ClockIn
 
 MAX_STATIONS = 50
 MAX_PASSES = 5000
+MAX_SYNCS = 5000
+"""Most syncs a plan lists, by the policy or recommended: a fixed interval allowing more over the span
+is refused before any work; the recommendation's search stops there and says so."""
 
 
 class StationIn(_Strict):
@@ -44,8 +47,12 @@ class SyncPolicyIn(_Strict):
         None, ge=-5, le=90, description="Only passes culminating this high, deg")
     interval_s: float | None = Field(
         None, gt=0,
-        description="fixed_interval: first eligible contact once this long has run since the last sync, s")
-    sync_at: Literal["aos", "culmination", "los"] = "culmination"
+        description="fixed_interval: the first eligible contact once this long has run since the last sync "
+        "(the span start is one): at that instant if an eligible station is in view, else at the AOS of "
+        "the next eligible pass; a long pass holds a sync every interval_s, s")
+    sync_at: Literal["aos", "culmination", "los"] = Field(
+        "culmination", description="Where in a pass the per-pass kinds sync (a fixed_interval sync comes "
+        "when its interval has run, or at the next AOS)")
     reestimate_frequency: bool = Field(False, description="A sync also re-estimates the frequency offset")
     frequency_residual_fractional: float = Field(
         0.0, description="Fractional frequency offset left after a re-estimate (dimensionless)")
@@ -160,13 +167,16 @@ class PassOut(_Open):
     bound_at_aos_with_syncs_ns: float | None = Field(
         None, description="|error_at_aos_with_syncs_ns| + k_sigma x 1-sigma at AOS, syncs applied, ns")
     bound_before_sync_ns: float | None = Field(
-        None, description="For a pass used for a sync: |error| + k_sigma x 1-sigma just before it, ns")
+        None, description="For a pass used for a sync: |error| + k_sigma x 1-sigma just before it (the "
+        "largest, when the pass holds several syncs), ns")
     light_time_us: float = Field(description="At culmination")
     sagnac_correction_ns: float = Field(description="At culmination")
     fractional_frequency_shift: float = Field(description="At culmination")
     aos_at_span_start: bool
     los_at_span_end: bool
     used_for_sync: bool
+    sync_count: int | None = Field(None, description="Syncs by the policy in this pass (a fixed_interval "
+                                   "policy syncs every interval_s inside a long pass)")
     signal_path: dict[str, SignalPointOut]
 
 
@@ -202,9 +212,11 @@ class ContactPlanResponse(_Open):
     time_error_budget_ns: float
     k_sigma: float
     recommendation: dict = Field(
-        description="Fewest syncs (greedy), the largest pass stride meeting the budget, "
-        "max_time_between_syncs_s and a summary in words ('sync at least every N h / every k-th pass "
-        "to keep 3-sigma within X ns')")
+        description="Fewest syncs (greedy, anywhere inside the eligible passes, so a long pass may hold "
+        "several: 'syncs' lists them with time, station and pass), the largest pass stride meeting the "
+        "budget, max_time_between_syncs_s, a fixed interval checked to meet the budget when the policy "
+        "does not (fixed_interval_s_meeting_budget) and a summary in words ('sync at least every N h / "
+        "every k-th pass to keep 3-sigma within X ns')")
     budget: dict
     model: dict
     caution: str

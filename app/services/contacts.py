@@ -6,6 +6,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from taubudget.physics.budget import compute_budget
 from taubudget.physics.clock import ClockModel
@@ -16,11 +18,13 @@ from taubudget.physics.contacts import (
     contact_time_s,
     downlink,
     eligible_passes,
+    eligible_windows,
     error_under_syncs,
     find_passes,
+    fixed_interval_meeting_budget,
     greedy_syncs,
     largest_stride_meeting_budget,
-    select_sync_passes,
+    schedule_syncs,
     simulate_syncs,
     simulation_grid,
 )
@@ -28,7 +32,7 @@ from taubudget.physics.environment import environment_for
 from taubudget.physics.errors import PhysicsInputError
 
 from ..present import contacts as present_contacts
-from ..schemas.contacts import MAX_PASSES, ContactPlanRequest
+from ..schemas.contacts import MAX_PASSES, MAX_SYNCS, ContactPlanRequest
 from ..settings import Settings, get_settings
 from .budget import budget_inputs, evaluated
 from .clock import clock_model
@@ -55,6 +59,18 @@ def _residual_fn(budget, which: str):
     return budget.after_preset_s
 
 
+def _check_sync_count(req: ContactPlanRequest, span_s: float) -> None:
+    """Refuse, before any work, a fixed interval that could sync more than MAX_SYNCS times (a sync
+    comes at least interval_s after the previous one, so at most span / interval_s of them)."""
+    pol = req.sync_policy
+    if pol.kind == "fixed_interval" and span_s / pol.interval_s > MAX_SYNCS:
+        raise PhysicsInputError(
+            "sync_policy.interval_s", pol.interval_s,
+            f"over the {span_s:g} s span this interval allows up to {math.floor(span_s / pol.interval_s)} "
+            f"syncs, above this service's limit of {MAX_SYNCS}; use interval_s >= {span_s / MAX_SYNCS:.6g} s "
+            "or a shorter span")
+
+
 def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None = None) -> dict:
     """Compute the contact-plan JSON for one request (planning estimate; carries ``caution``)."""
     settings = settings or get_settings()
@@ -66,6 +82,7 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
             "state vectors and Earth-orbit files)",
         )
     inputs.series_step_s = None  # the plan does not need the budget's series
+    _check_sync_count(req, inputs.span.duration_s)
     stations = _stations(req)
     with evaluated(req, inputs):
         budget = compute_budget(inputs)
@@ -109,18 +126,26 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
             sub = type(path)(**{f: getattr(path, f)[3 * j:3 * j + 3] for f in path.__dataclass_fields__})
             paths[i] = sub
 
-    sync_idx = select_sync_passes(passes, policy)
-    sync_t = np.array([contact_time_s(passes[i], policy.sync_at) for i in sync_idx])
+    schedule = schedule_syncs(passes, policy)
+    sync_t = schedule.times_s
+    windows = eligible_windows(passes, policy)
+    # The largest stride counts eligible passes, each at its sync_at point.
     cand_idx = eligible_passes(passes, policy)
     cand_t = np.array([contact_time_s(passes[i], policy.sync_at) for i in cand_idx])
-    grid = simulation_grid(span.duration_s, np.concatenate([sync_t, cand_t]))
+    grid = simulation_grid(span.duration_s, np.concatenate([sync_t, cand_t, windows.edges_s()]))
     sim = simulate_syncs(sync_t, span.duration_s, err, residual, k, budget_s, grid)
-    greedy = greedy_syncs(cand_t, span.duration_s, err, residual, k, budget_s, grid)
+    greedy = greedy_syncs(windows, span.duration_s, err, residual, k, budget_s, grid, max_syncs=MAX_SYNCS)
     stride = largest_stride_meeting_budget(cand_t, span.duration_s, err, residual, k, budget_s, grid_s=grid)
+    interval = None
+    if not sim.meets_budget and greedy.feasible and greedy.stopped_at_s is None \
+            and greedy.shortest_time_to_violation_s is not None:
+        interval = fixed_interval_meeting_budget(windows, span.duration_s, err, residual, k, budget_s,
+                                                 greedy.shortest_time_to_violation_s, grid, MAX_SYNCS)
 
     # The same passes with the request's syncs applied (the free-running offsets above ignore them).
     with_syncs = error_under_syncs(aos, sync_t, err, residual, k)
 
     return present_contacts.contact_plan(
-        req, span, passes, paths, off_aos, off_los, sync_idx, sync_t, sim, cand_idx, greedy, stride, budget,
-        clock, with_syncs_at_aos=with_syncs, candidate_times_s=cand_t)
+        req, span, passes, paths, off_aos, off_los, schedule.pass_indices.tolist(), sync_t, sim,
+        windows.pass_index.tolist(), greedy, stride, budget, clock, with_syncs_at_aos=with_syncs,
+        fixed_interval_s=interval, max_syncs=MAX_SYNCS)

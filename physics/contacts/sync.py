@@ -1,4 +1,4 @@
-"""Synchronisation policies and the time error of a clock that is synchronised at contacts.
+"""The time error of a clock that is synchronised at contacts, between and across syncs.
 
 Model (planning estimate). The clock is synchronised at the span start and at
 each chosen contact; a synchronisation resets the time offset to zero and,
@@ -33,74 +33,8 @@ from ..clock.time_error import SECONDS_PER_DAY, time_error_sigma_s
 ErrorModel = Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]
 """err(t_since_sync_s, sync_time_s) -> (deterministic_s, sigma_s), vectorised, broadcasting."""
 
-POLICY_KINDS = ("every_pass", "every_nth_pass", "min_duration", "min_elevation", "fixed_interval")
-SYNC_POINTS = ("aos", "culmination", "los")
-
 DEFAULT_MAX_GRID_POINTS = 50_000
 MIN_GRID_STEP_S = 10.0
-
-
-@dataclass(frozen=True)
-class SyncPolicy:
-    """Which contacts synchronise the clock.
-
-    kind: "every_pass", "every_nth_pass" (``every_n``), "min_duration" (passes of at
-    least ``min_duration_s``), "min_elevation" (culminating at least
-    ``min_elevation_deg`` high) or "fixed_interval" (the first eligible contact once
-    ``interval_s`` has run since the last sync). The duration and elevation filters
-    apply to every kind. sync_at: the point of the pass where the sync happens.
-    """
-
-    kind: str = "every_pass"
-    every_n: int = 1
-    min_duration_s: float = 0.0
-    min_elevation_deg: float | None = None
-    interval_s: float | None = None
-    sync_at: str = "culmination"
-
-    def __post_init__(self):
-        if self.kind not in POLICY_KINDS:
-            raise ValueError(f"sync policy kind must be one of {POLICY_KINDS}")
-        if self.sync_at not in SYNC_POINTS:
-            raise ValueError(f"sync_at must be one of {SYNC_POINTS}")
-        if self.every_n < 1:
-            raise ValueError("every_n must be >= 1")
-        if self.kind == "fixed_interval" and not (self.interval_s and self.interval_s > 0):
-            raise ValueError("a fixed_interval policy needs interval_s > 0")
-
-
-def contact_time_s(p, sync_at: str = "culmination") -> float:
-    """The instant (TT s since span start) of pass ``p`` at which a sync is made."""
-    return {"aos": p.aos_s, "culmination": p.culmination_s, "los": p.los_s}[sync_at]
-
-
-def eligible_passes(passes, policy: SyncPolicy) -> list[int]:
-    """Indices of the passes that pass the policy's duration and elevation filters."""
-    out = []
-    for i, p in enumerate(passes):
-        if p.duration_s < policy.min_duration_s:
-            continue
-        if policy.min_elevation_deg is not None and p.max_elevation_deg < policy.min_elevation_deg:
-            continue
-        out.append(i)
-    return out
-
-
-def select_sync_passes(passes, policy: SyncPolicy) -> list[int]:
-    """Indices (into ``passes``, in time order) of the passes at which the policy syncs."""
-    cand = sorted(eligible_passes(passes, policy),
-                  key=lambda i: contact_time_s(passes[i], policy.sync_at))
-    if policy.kind == "every_nth_pass":
-        return cand[policy.every_n - 1::policy.every_n]
-    if policy.kind == "fixed_interval":
-        chosen, last = [], 0.0
-        for i in cand:
-            t = contact_time_s(passes[i], policy.sync_at)
-            if t - last >= policy.interval_s:
-                chosen.append(i)
-                last = t
-        return chosen
-    return cand
 
 
 def clock_error_model(h_alpha: dict, drift_per_day: float = 0.0, initial_fractional_frequency: float = 0.0,
@@ -221,78 +155,10 @@ def error_under_syncs(t_s, sync_times_s, err: ErrorModel, residual: Callable, k_
     return det, sig, np.abs(det) + k_sigma * sig
 
 
-@dataclass
-class GreedyPlan:
-    """Sync times chosen by the greedy search, and whether they keep the envelope within budget.
-
-    shortest_time_to_violation_s: over the runs the search planned (from the span start and from
-    each chosen sync), the shortest time after which the envelope first exceeded the budget: a sync
-    at least this often keeps it within budget on every run seen; None if it never exceeded it.
-    """
-
-    sync_times_s: np.ndarray
-    candidate_indices: list[int]
-    feasible: bool
-    first_violation_s: float | None
-    shortest_time_to_violation_s: float | None = None
-    method: str = (
-        "greedy: from each sync, the latest eligible contact before the k-sigma envelope first "
-        "exceeds the budget; fewest syncs when the envelope grows with the time since sync, "
-        "not guaranteed minimal otherwise"
-    )
-
-
-def greedy_syncs(candidate_times_s, span_s: float, err: ErrorModel, residual: Callable, k_sigma: float,
-                 budget_s: float, grid_s=None) -> GreedyPlan:
-    """Fewest syncs (greedy, see ``GreedyPlan.method``) among ``candidate_times_s`` that meet the budget.
-
-    If no candidate bridges a gap, the search syncs at the first contact after the
-    violation (to keep planning the rest) and reports ``feasible=False``.
-    """
-    cand = np.asarray(candidate_times_s, dtype=float)
-    order = np.argsort(cand, kind="stable")
-    cand_sorted = cand[order]
-    t_all = simulation_grid(span_s, cand_sorted) if grid_s is None else np.unique(
-        np.concatenate([grid_s, cand_sorted]))
-    last, chosen, feasible, first_violation, shortest = 0.0, [], True, None, None
-    while True:
-        t = t_all[t_all > last]
-        if t.size == 0:
-            break
-        det, sig = err(t - last, np.full_like(t, last))
-        bound = np.abs(residual(t) - residual(np.array([last]))[0] + det) + k_sigma * np.asarray(sig)
-        over = np.flatnonzero(bound > budget_s)
-        if over.size == 0:
-            break
-        t_fail = t[over[0]]
-        run_s = float(t_fail - last)
-        shortest = run_s if shortest is None else min(shortest, run_s)
-        ok = np.flatnonzero((cand_sorted > last) & (cand_sorted < t_fail))
-        if ok.size:
-            j = int(ok[-1])
-        else:
-            feasible = False
-            if first_violation is None:
-                first_violation = float(t_fail)
-            later = np.flatnonzero(cand_sorted >= t_fail)
-            if later.size == 0:
-                break
-            j = int(later[0])
-        chosen.append(int(order[j]))
-        last = float(cand_sorted[j])
-    return GreedyPlan(np.array([cand[i] for i in chosen]), chosen, feasible, first_violation, shortest)
-
-
-def largest_stride_meeting_budget(candidate_times_s, span_s, err, residual, k_sigma, budget_s,
-                                  max_stride: int = 500, grid_s=None) -> int | None:
-    """Largest N such that syncing at every Nth candidate (time order) meets the budget, or None."""
-    cand = np.sort(np.asarray(candidate_times_s, dtype=float))
-    best = None
-    if cand.size == 0:
-        return None
-    grid = simulation_grid(span_s, cand) if grid_s is None else grid_s
-    for n in range(1, min(max_stride, len(cand)) + 1):
-        sim = simulate_syncs(cand[n - 1::n], span_s, err, residual, k_sigma, budget_s, grid)
-        if sim.meets_budget:
-            best = n
-    return best
+def run_envelope_s(t_s, t_sync_s: float, err: ErrorModel, residual: Callable, k_sigma: float) -> np.ndarray:
+    """|error| + k sigma (s) at ``t_s`` (> t_sync_s) of one run starting at the sync ``t_sync_s``
+    (the span start, t_sync_s = 0, carries the clock's initial offsets). Model: module docstring."""
+    t = np.asarray(t_s, dtype=float)
+    det, sig = err(t - t_sync_s, np.full_like(t, t_sync_s))
+    drift = residual(t) - residual(np.array([t_sync_s]))[0]
+    return np.abs(drift + det) + k_sigma * np.broadcast_to(np.asarray(sig, dtype=float), t.shape)

@@ -19,6 +19,7 @@ from taubudget.physics.contacts import (
     clock_error_model,
     greedy_syncs,
     largest_stride_meeting_budget,
+    schedule_syncs,
     select_sync_passes,
     simulate_syncs,
 )
@@ -162,13 +163,21 @@ def test_policies_select_what_they_say(specs, n, interval, min_dur, min_el):
     assert {i for i in longer} == {i for i, p in enumerate(passes) if p.duration_s >= min_dur}
     higher = select_sync_passes(passes, SyncPolicy("min_elevation", min_elevation_deg=min_el))
     assert {i for i in higher} == {i for i, p in enumerate(passes) if p.max_elevation_deg >= min_el}
-    fixed = select_sync_passes(passes, SyncPolicy("fixed_interval", interval_s=interval))
-    times = np.array([0.0] + [t_of[i] for i in fixed])
-    assert np.all(np.diff(times) >= interval)
-    # No eligible pass was skipped that was already an interval past the previous sync.
-    for i in every:
-        prev = times[times <= t_of[i]].max() if np.any(times <= t_of[i]) else 0.0
-        assert i in fixed or t_of[i] - prev < interval or t_of[i] in times
+    # fixed_interval: a pass is a window [AOS, LOS]; the sync comes once the interval has run since
+    # the previous one (the span start is one), then if a pass is in view, else at the next AOS.
+    schedule = schedule_syncs(passes, SyncPolicy("fixed_interval", interval_s=interval))
+    times = np.concatenate([[0.0], schedule.times_s])
+    assert np.all(np.diff(times) >= interval * (1 - FLOAT_REL))  # never before the interval has run
+    for prev, t, i in zip(times[:-1], times[1:], schedule.pass_indices, strict=True):
+        due = prev + interval
+        in_view = [p for p in passes if p.aos_s <= due <= p.los_s]
+        assert t == pytest.approx(due if in_view else min(p.aos_s for p in passes if p.aos_s > due),
+                                  rel=FLOAT_REL)
+        assert passes[i].aos_s <= t <= passes[i].los_s  # the station named sees the satellite then
+    # No eligible pass was skipped that was still open an interval after the last sync.
+    assert not any(p.los_s >= times[-1] + interval * (1 + FLOAT_REL) for p in passes)
+    assert select_sync_passes(passes, SyncPolicy("fixed_interval", interval_s=interval)) == list(
+        dict.fromkeys(schedule.pass_indices.tolist()))
 
 
 def test_largest_stride_meeting_budget():
