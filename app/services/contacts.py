@@ -28,6 +28,7 @@ from taubudget.physics.contacts import (
     simulate_syncs,
     simulation_grid,
 )
+from taubudget.physics.contacts.residual_table import TabulatedResidual
 from taubudget.physics.environment import environment_for
 from taubudget.physics.errors import PhysicsInputError
 
@@ -133,6 +134,9 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
     cand_idx = eligible_passes(passes, policy)
     cand_t = np.array([contact_time_s(passes[i], policy.sync_at) for i in cand_idx])
     grid = simulation_grid(span.duration_s, np.concatenate([sync_t, cand_t, windows.edges_s()]))
+    # The searches below evaluate the residual on this grid many times: once, then looked up.
+    residual = TabulatedResidual(residual, np.concatenate([grid, sync_t, cand_t, aos,
+                                                          [0.0, span.duration_s]]))
     sim = simulate_syncs(sync_t, span.duration_s, err, residual, k, budget_s, grid)
     greedy = greedy_syncs(windows, span.duration_s, err, residual, k, budget_s, grid, max_syncs=MAX_SYNCS)
     stride = largest_stride_meeting_budget(cand_t, span.duration_s, err, residual, k, budget_s, grid_s=grid)
