@@ -133,6 +133,9 @@ def clock_residuals_from_texts(clock_text: str, orbit_text: str | None, sat_id: 
     t_s = span0.seconds_after_start(times)
     span = Span(start, max(float(t_s[-1]), 1.0))
     with request_terms((source, "orbit_file", orbit_in)):
+        # An orbit table refuses clock epochs beyond its data, naming the first or last epoch; an
+        # epoch inside a gap of the table is refused by ``states``, which names it.
+        source.check_span(span, "the first clock epoch", "the last clock epoch", gaps=False)
         states = source.states(span, t_s, environment_for(span).orientation)
     try:
         result = clock_residuals(t_s, offset_s, states.r_gcrs_m, states.v_gcrs_m_per_s,

@@ -11,7 +11,9 @@ Errors raised while a source is evaluated (an ephemeris that does not cover the 
 propagation too long) carry ``source``, the orbit source that raised them, so the app knows which
 request block (the clock's orbit, a reference clock, a link station) they concern. An error about
 an instant carries it in ``at`` (a skyfield Time) and a ``value`` may be a skyfield Time: physics
-writes no calendar text; the app writes both in UTC.
+writes no calendar text; the app writes both in UTC. A reason that names several instants by a
+phrase ("the span's end lies 74 s after the data's last point") lists them in ``instants`` as
+(phrase, Time) pairs; the app writes each instant in UTC beside its phrase.
 """
 
 from __future__ import annotations
@@ -20,18 +22,19 @@ from __future__ import annotations
 class PhysicsInputError(ValueError):
     """Well-formed input that is physically unusable (perigee inside the Earth, ...)."""
 
-    def __init__(self, field: str, value, reason: str, *, source=None, at=None):
+    def __init__(self, field: str, value, reason: str, *, source=None, at=None, instants=()):
         super().__init__(reason)
         self.field = field
         self.value = value
         self.reason = reason
         self.source = source
         self.at = at
+        self.instants = tuple(instants)  # (phrase in ``reason``, skyfield Time) pairs
 
     def __reduce__(self):
         """Picklable (a Dask worker may hand one back): the source object stays behind."""
-        return (_rebuild, (type(self), self.field, self.value, self.reason, self.at))
+        return (_rebuild, (type(self), self.field, self.value, self.reason, self.at, self.instants))
 
 
-def _rebuild(cls, field, value, reason, at):
-    return cls(field, value, reason, at=at)
+def _rebuild(cls, field, value, reason, at, instants=()):
+    return cls(field, value, reason, at=at, instants=instants)

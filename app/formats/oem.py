@@ -14,7 +14,7 @@ Lagrange of degree 7 and say so in the description.
 from __future__ import annotations
 
 import numpy as np
-from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
+from taubudget.physics.orbits.ephemeris_table import EphemerisTable, InconsistentStateError, Segment
 
 from .common import (
     MAX_DATA_LINES,
@@ -103,6 +103,8 @@ def parse_oem(text: str, object_id: str | None = None) -> EphemerisTable:
         parsed.append((mk, data_items, meta_line))
     chosen = _choose(ids, object_id, segs)
     segments, ref = [], None
+    lines: list[list] = []  # per segment, its ephemeris lines' items (line numbers)
+    frames: list[str] = []  # per segment, its REF_FRAME
     names = set()
     for idx in chosen:
         mk, data_items, meta_line = parsed[idx]
@@ -166,11 +168,40 @@ def parse_oem(text: str, object_id: str | None = None) -> EphemerisTable:
             degree = degree if degree % 2 == 1 else degree + 1
         segments.append(Segment(t_s, r, v, s0, s1, interp, degree,
                                 label=f"{frame} -> GCRS, {tsys}, {interp} degree {degree}"))
+        lines.append(data_items)
+        frames.append(frame)
     label = f"OEM ({', '.join(sorted(n for n in names if n))})"
     if not any(mk.has("INTERPOLATION") for mk, _, _ in (parsed[i] for i in chosen)):
         label += (f"; no INTERPOLATION given, {DEFAULT_INTERPOLATION[0]} degree "
                   f"{DEFAULT_INTERPOLATION[1]} used")
-    return EphemerisTable(ref, segments, label=label)
+
+    def line_of(segment: int, point: int) -> int:
+        return lines[segment][point].line
+
+    def keyword(segment: int, quantity: str, axis: int) -> str:
+        return _keyword(quantity, axis if frames[segment] in AXES_KEPT else None)
+
+    def point_name(segment: int, point: int, quantity: str, axis: int) -> str:
+        return f"line {line_of(segment, point)}, {keyword(segment, quantity, axis)}"
+
+    try:
+        return EphemerisTable(ref, segments, label=label, point_name=point_name)
+    except InconsistentStateError as exc:  # a corrupted line: named by its number and field
+        raise FormatError(line_of(exc.segment, exc.point), keyword(exc.segment, exc.quantity, exc.axis),
+                          exc.detail) from None
+
+
+AXES_KEPT = ("GCRF", "ICRF", "EME2000")
+"""Frames whose axes are the GCRS's to within the frame bias (23 mas), so the GCRS component that
+disagrees most is the line's own field; TEME and ITRF are rotated, and a line is named by its
+position or velocity fields as a whole."""
+
+
+def _keyword(quantity: str, axis: int | None) -> str:
+    """The ephemeris line's field of a position or velocity component (section 5.2.4)."""
+    if axis is None:
+        return "X, Y, Z" if quantity == "position" else "X_DOT, Y_DOT, Z_DOT"
+    return "XYZ"[axis] + ("_DOT" if quantity == "velocity" else "")
 
 
 def _seconds(times, ref) -> np.ndarray:

@@ -25,7 +25,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from taubudget.physics.orbits.ephemeris_table import EphemerisTable, Segment
+from taubudget.physics.orbits.ephemeris_table import EphemerisTable, InconsistentStateError, Segment
 
 from .common import MAX_DATA_LINES, FormatError, check_size, make_time, to_gcrs
 
@@ -36,6 +36,10 @@ SP3_TIME_SYSTEMS = {"GPS": ("GPS", 0.0), "GAL": ("GPS", 0.0), "QZS": ("GPS", 0.0
 
 DEFAULT_DEGREE = 9
 """Lagrange degree for 15-minute SP3 orbits (common practice: 8 to 10 gives mm-level positions)."""
+POSITION_STEP_KM = 1e-6
+"""Positions are written F14.6 in km (Hilla 2016): a step of 1 mm."""
+VELOCITY_STEP_DM_PER_S = 1e-6
+"""Velocities are written F14.6 in dm/s: a step of 1e-7 m/s."""
 
 
 @dataclass
@@ -50,6 +54,8 @@ class Sp3:
     positions_km: dict[str, np.ndarray] = field(default_factory=dict)  # (N, 3), NaN where missing
     velocities_dm_per_s: dict[str, np.ndarray] | None = None
     clocks_us: dict[str, np.ndarray] = field(default_factory=dict)  # (N,), NaN where missing
+    position_lines: dict[str, np.ndarray] = field(default_factory=dict)  # (N,) each P record's line, 0: none
+    velocity_lines: dict[str, np.ndarray] = field(default_factory=dict)  # (N,) the same for V records
 
 
 def _sat_id(field3: str) -> str:
@@ -128,7 +134,7 @@ def parse_sp3(text: str) -> Sp3:
             xyz = tuple(_float(line[4 + 14 * k:18 + 14 * k], n, "XYZ"[k]) for k in range(3))
             clk = line[46:60].strip()
             clock = _float(clk, n, "clock") if clk else MISSING_CLOCK_US
-            (recs_p if line[0] == "P" else recs_v).setdefault(sid, {})[len(fields) - 1] = (*xyz, clock)
+            (recs_p if line[0] == "P" else recs_v).setdefault(sid, {})[len(fields) - 1] = (*xyz, clock, n)
         else:
             raise FormatError(n, line[:2].strip() or "record", f"unrecognised SP3 line {line[:20]!r}")
     if not seen_eof:
@@ -149,20 +155,26 @@ def parse_sp3(text: str) -> Sp3:
     for sid, recs in recs_p.items():
         pos = np.full((n_ep, 3), np.nan)
         clk = np.full(n_ep, np.nan)
-        for k, (x, y, z, c) in recs.items():
+        at = np.zeros(n_ep, dtype=int)
+        for k, (x, y, z, c, n) in recs.items():
             if not (x == 0.0 and y == 0.0 and z == 0.0):
                 pos[k] = (x, y, z)
             if abs(c) < MISSING_CLOCK_US:
                 clk[k] = c
+            at[k] = n
         out.positions_km[sid] = pos
         out.clocks_us[sid] = clk
+        out.position_lines[sid] = at
     if recs_v:
         out.velocities_dm_per_s = {}
         for sid, recs in recs_v.items():
             vel = np.full((n_ep, 3), np.nan)
-            for k, (x, y, z, _c) in recs.items():
+            at = np.zeros(n_ep, dtype=int)
+            for k, (x, y, z, _c, n) in recs.items():
                 vel[k] = (x, y, z)
+                at[k] = n
             out.velocities_dm_per_s[sid] = vel
+            out.velocity_lines[sid] = at
     return out
 
 
@@ -198,15 +210,36 @@ def sp3_source(sp3: Sp3, sat_id: str, degree: int = DEFAULT_DEGREE):
     t_s = (whole + (np.asarray(times.tt_fraction) - ref.tt_fraction)) * 86400.0
     # Never interpolate across a gap: split where consecutive epochs are > 1.5 intervals apart.
     breaks = np.nonzero(np.diff(t_s) > 1.5 * sp3.interval_s)[0] + 1
-    segments = []
+    segments, epochs = [], []  # epochs: per segment, the epoch index of each point
     for part in np.split(np.arange(idx.size), breaks):
         if part.size < 2:
             continue
         segments.append(Segment(t_s[part], r[part], None if v is None else v[part], interpolation="LAGRANGE",
                                 degree=min(degree, part.size - 1),
-                                label=f"SP3 {sat_id}, {sp3.coordinate_system} -> GCRS"))
-    return EphemerisTable(ref, segments, label=f"SP3-{sp3.version} {sat_id} ({sp3.coordinate_system}, "
-                          f"{sp3.time_system}), Lagrange degree {degree}")
+                                label=f"SP3 {sat_id}, {sp3.coordinate_system} -> GCRS",
+                                position_resolution_m=POSITION_STEP_KM * 1e3,
+                                velocity_resolution_m_per_s=VELOCITY_STEP_DM_PER_S * 0.1))
+        epochs.append(idx[part])
+
+    def line_of(segment: int, point: int, quantity: str) -> int:
+        lines = sp3.position_lines if quantity == "position" else sp3.velocity_lines
+        return int(lines[sat_id][epochs[segment][point]])
+
+    def point_name(segment: int, point: int, quantity: str, axis: int) -> str:
+        return f"line {line_of(segment, point, quantity)}, {_keyword(quantity, axis)}"
+
+    try:
+        return EphemerisTable(ref, segments, label=f"SP3-{sp3.version} {sat_id} ({sp3.coordinate_system}, "
+                              f"{sp3.time_system}), Lagrange degree {degree}", point_name=point_name)
+    except InconsistentStateError as exc:  # a corrupted record: named by its line and field
+        raise FormatError(line_of(exc.segment, exc.point, exc.quantity), _keyword(exc.quantity, exc.axis),
+                          f"satellite {sat_id}: {exc.detail}") from None
+
+
+def _keyword(quantity: str, axis: int) -> str:
+    """The record of a position (P) or velocity (V). Not its component: the table compares GCRS
+    vectors, whose axes are not the file's Earth-fixed ones."""
+    return ("P" if quantity == "position" else "V") + " record"
 
 
 def clock_series(sp3: Sp3, sat_id: str):

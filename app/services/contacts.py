@@ -122,7 +122,8 @@ def contact_plan_from_request(req: ContactPlanRequest, settings: Settings | None
         if not idx:
             continue
         t_r = np.concatenate([[passes[i].aos_s, passes[i].culmination_s, passes[i].los_s] for i in idx])
-        path = downlink(src, sta, span, t_r, env, inputs.gravity)
+        with evaluated(req, inputs):  # emission is a light time before reception: maybe before the span
+            path = downlink(src, sta, span, t_r, env, inputs.gravity)
         for j, i in enumerate(idx):
             sub = type(path)(**{f: getattr(path, f)[3 * j:3 * j + 3] for f in path.__dataclass_fields__})
             paths[i] = sub

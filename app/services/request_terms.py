@@ -53,9 +53,9 @@ TOP_LEVEL = ("orbit", "reference", "start", "end")
 
 
 def _coverage_text(source) -> str:
-    """An ephemeris table's coverage, segment by segment, in UTC."""
-    spans = [f"{utc_text(t[0])} to {utc_text(t[1])}" for t in source.coverage()]
-    return "; ".join(spans)
+    """An ephemeris table's coverage in UTC: each stretch without a gap (touching segments as one)."""
+    stretches = source.covered() if hasattr(source, "covered") else source.coverage()
+    return "; ".join(f"{utc_text(t[0])} to {utc_text(t[1])}" for t in stretches)
 
 
 def request_error(exc: PhysicsInputError, prefix: str,
@@ -69,10 +69,12 @@ def request_error(exc: PhysicsInputError, prefix: str,
     if exc.field is None or "." in exc.field or exc.field in TOP_LEVEL:
         return exc
     cls = model if isinstance(model, type) or model is None else type(model)
-    kw = {"source": exc.source, "at": exc.at}
+    kw = {"source": exc.source, "at": exc.at, "instants": exc.instants}
     if cls is not None and issubclass(cls, TEXT_ORBITS):
         if exc.field == "coverage" and hasattr(exc.source, "coverage"):
-            return PhysicsInputError(f"{prefix}.text", exc.value, f"{exc.reason}; the data cover "
+            # The instants (the span's end, the data's last point) are in the reason; the file's
+            # text has no value to quote.
+            return PhysicsInputError(f"{prefix}.text", None, f"{exc.reason}; the data cover "
                                      f"{_coverage_text(exc.source)}", **kw)
         # A number in the source's SI unit is not what the file says; an instant (an OPM's epoch)
         # is, and is written in UTC.

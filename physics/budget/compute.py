@@ -84,11 +84,18 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     single_threaded_blas()
     span, src = inputs.span, inputs.source
     check_span(span)
+    src.check_span(span)  # a table of states refuses a span outside its data before any work
     warnings = check_tle_epoch(src, span) + check_span_covers_an_orbit(src, span)
     n_series = check_series(inputs)
     env = environment_for(span)
     frame = build_frame(src, inputs.reference, inputs.gravity, span, env, inputs.frame)
     q = _integrate(frame, inputs)
+    omitted = frame.omitted_terms()
+    # The budget's precision, as it reports it: its integration tolerance, or the largest term it
+    # leaves out (omitted_terms), whichever is larger. A source whose own errors exceed it (an
+    # orbit table's interpolation, a suspect tabulated point) says so.
+    precision = max([inputs.tol_fractional, *(t.size_fractional for t in omitted)])
+    warnings = [*warnings, *src.budget_warnings(span, precision)]
     parts = frame.bounded_parts(q)
     ecc_part = parts[0]
     # The series gives the absolute eccentricity term -(2/c^2) r.v (IS-GPS-200), not the part's
@@ -182,7 +189,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
             per.half_peak_to_peak(position), frame.position_base),
         integration=Integration(q.error_estimate_s, q.node_count, int(len(q.edges_s) - 1),
                                 q.nodes_s.shape[1], inputs.tol_fractional),
-        model=model, omitted_terms=frame.omitted_terms(), series=series, warnings=tuple(warnings),
+        model=model, omitted_terms=omitted, series=series, warnings=tuple(warnings),
         secular_rate_per_tt_s=float(fit.rate), orbital_period_s=period, integral=q,
         eccentricity_part=ecc_part,
     )

@@ -221,6 +221,13 @@ class BarycentricFrame(Frame):
                 f"the lunar_surface reference uses a point-mass Moon: lunar J2 = {MOON_J2:g} (common "
                 "practice) on its equator is left out; the Earth's tide averaged over the lunar "
                 "equator (~5e-17) is left out too"))
+        if isinstance(self.source, EarthSourceInBcrs) and not self.source.is_surface:
+            # The Earth's field here is its zonal part at most (rate_bcrs.bcrs_earth_field), as in
+            # the GCRS: the tesseral harmonics are left out in both.
+            from .geocentric import tesseral_term
+
+            st = self.source.source.states(self.span, np.array([0.0]), self.env.orientation)
+            out.append(OmittedTerm(*tesseral_term(float(np.linalg.norm(st.r_gcrs_m[0])))))
         if isinstance(self.source, EarthSourceInBcrs):
             out.append(OmittedTerm("gcrs_to_bcrs_lorentz_terms", 1e-16,
                                    "the geocentric state is added to the geocentre's without the O(c^-2) "

@@ -33,6 +33,15 @@ from ..rate import TERM_NAMES, integrand_terms
 from .base import Frame
 
 
+def tesseral_term(r_m: float) -> tuple[str, float, str]:
+    """(name, size, note) of the Earth's tesseral and sectoral harmonics at radius ``r_m``, which no
+    frame models: the degree-2 sectoral term, the largest."""
+    gm_over_rc2 = GM_EARTH_TCG_M3_PER_S2 / (r_m * C2_M2_PER_S2)
+    return ("earth_tesseral_and_sectoral_harmonics",
+            EGM2008_C22_S22_NORMALIZED * np.sqrt(5.0) * (EARTH_EQUATORIAL_RADIUS_M / r_m) ** 2 * gm_over_rc2,
+            "degree-2 sectoral term, EGM2008 C22/S22 (Pavlis et al. 2012 coefficient file); mostly periodic")
+
+
 class GeocentricFrame(Frame):
     name = "GCRS"
     coordinate_time = "TCG"
@@ -69,12 +78,7 @@ class GeocentricFrame(Frame):
                     f"earth_zonal_above_degree_{grav.earth_zonal_degree}",
                     omitted_zonal_size(r, grav.earth_zonal_degree) / C2_M2_PER_S2,
                     "first omitted zonal harmonic at the mean radius (EGM2008)"))
-            out.append(OmittedTerm(
-                "earth_tesseral_and_sectoral_harmonics",
-                EGM2008_C22_S22_NORMALIZED * np.sqrt(5.0) * (EARTH_EQUATORIAL_RADIUS_M / r) ** 2
-                * gm_over_rc2,
-                "degree-2 sectoral term, EGM2008 C22/S22 (Pavlis et al. 2012 coefficient file); "
-                "mostly periodic"))
+            out.append(OmittedTerm(*tesseral_term(r)))
             if src.kind == "keplerian":
                 out.extend(OmittedTerm(*term) for term in src.omitted_motion_terms(grav, r))
         else:

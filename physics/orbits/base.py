@@ -67,6 +67,26 @@ class OrbitSource:
     def describe(self) -> dict:
         return {"type": self.kind}
 
+    def check_span(self, span, start_name: str = "the span's start", end_name: str = "the span's end",
+                   gaps: bool = True) -> None:
+        """Refuse, before any work, a span the source cannot give states over (``PhysicsInputError``).
+
+        A source that can compute any instant (elements, a propagator) accepts every span; a table of
+        states refuses a span reaching outside its data (``EphemerisTable``). ``start_name`` and
+        ``end_name`` are what the span's ends are called in the reason (a caller whose span is the
+        range of its own epochs names them so); ``gaps``: whether a gap inside the data that the
+        span crosses is refused too (a caller asking for separate epochs leaves gaps to ``states``).
+        """
+
+    def budget_warnings(self, span, rate_precision_fractional: float) -> list[str]:
+        """Warnings about this source's states over ``span``, once a budget has evaluated them.
+
+        ``rate_precision_fractional``: the budget's precision (fractional rate); a source warns
+        where its own errors may exceed it. Called after the integration, so a source may judge
+        the nodes it was asked for.
+        """
+        return []
+
 
 def check_perigee_altitude(perigee_radius_m: float, field: str, value) -> None:
     """Refuse an Earth orbit whose perigee lies below MIN_ORBIT_PERIGEE_ALTITUDE_M (100 km).

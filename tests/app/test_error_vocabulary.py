@@ -134,10 +134,11 @@ def test_oem_coverage_error_points_at_the_text_with_utc_times(client, request_bo
     assert err["pointer"] == "/orbit/text"
     assert "never extrapolated" in body["detail"]
     assert "the data cover 2027-03-01T00:00:00Z to 2027-03-01T00:20:00Z" in body["detail"]
-    # the first quadrature node the data miss, in UTC, as the value: after the data's last point
-    # and within the span
-    missed = body["detail"].split("orbit.text = '")[1][:20]
-    assert "2027-03-01T00:20:00Z" < missed <= "2027-03-01T01:00:00Z"
+    # the span's end and the data's last point, in UTC, and how far apart (60 min - 20 min); the
+    # file's text has no value to quote
+    assert ("span's end (2027-03-01T01:00:00Z) lies 2400 s after the data's last point "
+            "(2027-03-01T00:20:00Z)") in body["detail"]
+    assert "orbit.text =" not in body["detail"]
 
 
 def test_tle_far_from_its_epoch_names_the_start_in_utc(client, request_body, problem_of):

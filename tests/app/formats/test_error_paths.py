@@ -35,7 +35,9 @@ def _oem_text(odm, **meta):
     seg = {"OBJECT_NAME": "KESTREL-NAV-3", "OBJECT_ID": "2027-901C", "CENTER_NAME": "EARTH",
            "REF_FRAME": "GCRF", "TIME_SYSTEM": "UTC", "START_TIME": "2027-03-01T00:00:00",
            "STOP_TIME": "2027-03-01T00:20:00", "INTERPOLATION": "LAGRANGE", "INTERPOLATION_DEGREE": "3",
-           "rows": [(f"2027-03-01T00:{m:02d}:00", np.array(R_KM) + m, V_KM_S) for m in range(0, 21, 5)]}
+           # straight-line motion at V_KM_S: positions and velocities agree (the table checks)
+           "rows": [(f"2027-03-01T00:{m:02d}:00", np.array(R_KM) + 60.0 * m * np.array(V_KM_S), V_KM_S)
+                    for m in range(0, 21, 5)]}
     seg.update(meta)
     return odm.oem_kvn([seg])
 
@@ -166,8 +168,32 @@ def test_oem_never_extrapolates(ts, odm):
     from taubudget.app.services.request_terms import request_error
 
     field, value, reason = shown(request_error(exc, "orbit", OemOrbitIn))
-    assert field == "orbit.text" and value == "2027-03-01T00:30:00Z"
+    assert field == "orbit.text" and value is None  # the text has no value to quote
+    assert ("asked for at an instant (2027-03-01T00:30:00Z) 600 s after the data's last point "
+            "(2027-03-01T00:20:00Z)") in reason
     assert "the data cover 2027-03-01T00:00:00Z to 2027-03-01T00:20:00Z" in reason
+
+
+def test_oem_span_is_checked_at_its_ends_before_any_node(ts, odm):
+    """check_span judges the span itself, not the nodes a budget would use: an end 30 s past the
+    data's last point (00:20:00 in the file) is refused, naming the 30 s and both instants; a
+    span ending on the last point is not."""
+    from taubudget.physics.span import Span
+
+    src = build_format_source(OemOrbitIn(type="oem", text=_oem_text(odm)))
+    src.check_span(Span(ts.utc(2027, 3, 1), 1200.0))
+    with pytest.raises(PhysicsInputError) as info:
+        src.check_span(Span(ts.utc(2027, 3, 1, 0, 5), 930.0))
+    exc = info.value
+    assert exc.field == "coverage" and exc.source is src and "2027-" not in exc.reason
+    assert exc.reason.startswith("the span's end lies 30 s after the data's last point")
+    assert [name for name, _ in exc.instants] == ["the span's end", "the data's last point"]
+    from taubudget.app.present.errors import shown
+    from taubudget.app.services.request_terms import request_error
+
+    _, _, reason = shown(request_error(exc, "orbit", OemOrbitIn))
+    assert reason.startswith("the span's end (2027-03-01T00:20:30Z) lies 30 s after the data's last "
+                             "point (2027-03-01T00:20:00Z); the ephemeris is never extrapolated")
 
 
 # --- TLE files -----------------------------------------------------------------------
