@@ -85,6 +85,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     span, src = inputs.span, inputs.source
     check_span(span)
     src.check_span(span)  # a table of states refuses a span outside its data before any work
+    src.begin_evaluation()  # a source reused across budgets reports this one's figures only
     warnings = check_tle_epoch(src, span) + check_span_covers_an_orbit(src, span)
     n_series = check_series(inputs)
     env = environment_for(span)

@@ -78,6 +78,11 @@ class OrbitSource:
         span crosses is refused too (a caller asking for separate epochs leaves gaps to ``states``).
         """
 
+    def begin_evaluation(self) -> None:
+        """A budget is about to evaluate this source: forget what an earlier evaluation left (a
+        table's interpolation-error maxima), so a source reused across items or requests reports
+        this budget's figures only. Sources without such state do nothing."""
+
     def budget_warnings(self, span, rate_precision_fractional: float) -> list[str]:
         """Warnings about this source's states over ``span``, once a budget has evaluated them.
 

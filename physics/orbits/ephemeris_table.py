@@ -372,10 +372,7 @@ class EphemerisTable(OrbitSource):
         self.point_name = point_name or default_point_name
         self._covered_s = self._merged_coverage()
         self._period_s = period_s if period_s is not None else self._estimate_period()
-        self.max_position_error_m = 0.0
-        self.max_velocity_error_m_per_s = 0.0
-        self.max_rate_error_fractional = 0.0
-        self.max_periodic_error_s = 0.0
+        self.begin_evaluation()
         self.consistency = [self._check_segment(seg) for seg in segments]
         self._refuse_inconsistent()
 
@@ -424,6 +421,13 @@ class EphemerisTable(OrbitSource):
             "r_gcrs_m" if c.quantity == "position" else "v_gcrs_m_per_s", float(c.disagreement[j]),
             f"{name}: {detail}", segment=i, point=j, quantity=c.quantity, axis=int(c.axis[j]),
             detail=detail, at=self._time(float(self.segments[i].t_s[j])), source=self)
+
+    def begin_evaluation(self) -> None:
+        """Zero the interpolation-error maxima (they grow with every ``states`` call)."""
+        self.max_position_error_m = 0.0
+        self.max_velocity_error_m_per_s = 0.0
+        self.max_rate_error_fractional = 0.0
+        self.max_periodic_error_s = 0.0
 
     def budget_warnings(self, span, rate_precision_fractional: float) -> list[str]:
         """Suspect points near the span, and an interpolation error above the budget's precision.
