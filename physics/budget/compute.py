@@ -12,6 +12,8 @@ The result is a ``BudgetResult`` in SI units; app/present/budget.py formats it.
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
 from ..cancel import checkpoint
@@ -65,6 +67,70 @@ def _integrate(frame, inputs: BudgetInputs):
     return q
 
 
+class _Figures(NamedTuple):
+    """Extremes and amplitudes of the offset and its bounded parts (fine grid, refined)."""
+
+    shift_s: float
+    extreme_s: float
+    extreme_t_s: float
+    min_s: float
+    max_s: float
+    periodic: PeriodicPart
+    ecc_amplitude_s: float
+    residual_max_s: float
+    residual_p2p_s: float
+    residual_with_position_s: float | None
+
+
+def _bounded_figures(q, frame, fit, ecc_part, span_s: float, period, offered: bool,
+                     applied: bool) -> _Figures:
+    """The periodic part, the eccentricity term and what the correction leaves, on the fine grid
+    (refined between samples). In the BCRS the clock's own periodic part excludes the coordinate
+    position term (and a TT-like reference's TDB - TT), reported on its own."""
+    fine = per.FINE_POINTS_PER_PANEL
+    t = q.fine_grid_s(fine)
+    weights = trapezoid_weights(t)
+    total = q.cumulative_on_fine_grid(fine, rows=[0])[0]
+    ecc = ecc_part.on_grid(q, fine)
+    line = fit.rate * (t - 0.5 * span_s)
+    shift = per.weighted_mean(total - line, weights)
+    periodic = total - line - shift
+    bcrs = frame.name == "BCRS"
+    position = frame.position_term_s(q, t) if bcrs else np.zeros_like(t)
+    not_own = frame.not_the_clocks_own_s(q, t) if bcrs else np.zeros_like(t)
+    own = periodic - (not_own - per.weighted_mean(not_own, weights))
+    residual = own - (ecc - per.weighted_mean(ecc, weights) if applied else 0.0)
+    harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
+    if harmonics is not None and bcrs:
+        not_own_coef = harmonic_coefficients(t, not_own, span_s, period, fit.harmonics)
+        # (the same harmonics unless this grid's conditioning dropped some: then from ``own`` alone)
+        harmonics = harmonics - not_own_coef if len(not_own_coef) == len(harmonics) else None
+    comps = per.components(own, t, period, harmonics, span_s)
+
+    def periodic_at(ts):
+        return q.cumulative_at(ts, rows=[0])[0] - fit.rate * ts
+
+    def own_periodic_at(ts):
+        return periodic_at(ts) - (frame.not_the_clocks_own_s(q, ts) if bcrs else 0.0)
+
+    def residual_at(ts):
+        return own_periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
+
+    p2p = refined_peak_to_peak(periodic_at, t, periodic)
+    own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - not_own)
+    with_position = None
+    if bcrs:
+        kept = residual + (not_own - per.weighted_mean(not_own, weights))
+        with_position = float(np.max(np.abs(kept - per.weighted_mean(kept, weights))))
+    i_ext = int(np.argmax(np.abs(total)))
+    return _Figures(
+        shift, float(total[i_ext]), float(t[i_ext]), float(total.min()), float(total.max()),
+        PeriodicPart(0.5 * own_p2p, own_p2p, comps[0].period_s if comps else None, comps,
+                     per.half_peak_to_peak(position), 0.5 * p2p, p2p),
+        0.5 * refined_peak_to_peak(ecc_part.offset_s, t, ecc) if offered else 0.0,
+        float(np.max(np.abs(residual))), refined_peak_to_peak(residual_at, t, residual), with_position)
+
+
 def preset_fractional(mean_fractional_rate: float) -> float:
     """-y/(1 + y): the fractional offset f_set/f0 - 1 that nulls a rate y (no 1/(1 + y) - 1 cancellation)."""
     return -mean_fractional_rate / (1.0 + mean_fractional_rate)
@@ -107,51 +173,9 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     y_ref = frame.mean_reference_rate(fit.term_rates)
     mean_rate = fit.rate / (1.0 + y_ref)
 
-    # Extremes and amplitudes on the fine grid (refined between samples): the total and the
-    # bounded parts.
-    fine = per.FINE_POINTS_PER_PANEL
-    t = q.fine_grid_s(fine)
-    weights = trapezoid_weights(t)
-    total = q.cumulative_on_fine_grid(fine, rows=[0])[0]
     offered = getattr(frame, "offers_eccentricity_correction", True)
     applied = offered and inputs.apply_eccentricity_correction
-    ecc = ecc_part.on_grid(q, fine)
-    line = fit.rate * (t - 0.5 * span.duration_s)
-    shift = per.weighted_mean(total - line, weights)
-    periodic = total - line - shift
-    position = frame.position_term_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
-    not_own = frame.not_the_clocks_own_s(q, t) if frame.name == "BCRS" else np.zeros_like(t)
-    # The clock's own periodic part: in the BCRS, the coordinate position term (and a TT-like
-    # reference's TDB - TT) is reported on its own; the amplitude, the components and the residual
-    # after the correction all describe the rest.
-    own = periodic - (not_own - per.weighted_mean(not_own, weights))
-    ecc_centred = ecc - per.weighted_mean(ecc, weights) if applied else 0.0
-    residual = own - ecc_centred
-    harmonics = fit.raw_harmonic_coef_s if fit.harmonic_weight == 1.0 else None
-    if harmonics is not None and frame.name == "BCRS":
-        not_own_coef = harmonic_coefficients(t, not_own, span.duration_s, period, fit.harmonics)
-        # (the same harmonics unless this grid's conditioning dropped some: then from ``own`` alone)
-        harmonics = harmonics - not_own_coef if len(not_own_coef) == len(harmonics) else None
-    comps = per.components(own, t, period, harmonics, span.duration_s)
-
-    def periodic_at(ts):
-        return q.cumulative_at(ts, rows=[0])[0] - fit.rate * ts
-
-    def own_periodic_at(ts):
-        return periodic_at(ts) - (frame.not_the_clocks_own_s(q, ts) if frame.name == "BCRS" else 0.0)
-
-    def residual_at(ts):
-        return own_periodic_at(ts) - (ecc_part.offset_s(ts) if applied else 0.0)
-
-    p2p = refined_peak_to_peak(periodic_at, t, periodic)
-    own_p2p = refined_peak_to_peak(own_periodic_at, t, periodic - not_own)
-    residual_p2p = refined_peak_to_peak(residual_at, t, residual)
-    with_position = None
-    if frame.name == "BCRS":
-        kept = residual + (not_own - per.weighted_mean(not_own, weights))
-        with_position = float(np.max(np.abs(kept - per.weighted_mean(kept, weights))))
-    ecc_amp = 0.5 * refined_peak_to_peak(ecc_part.offset_s, t, ecc) if offered else 0.0
-    i_ext = int(np.argmax(np.abs(total)))
+    fig = _bounded_figures(q, frame, fit, ecc_part, span.duration_s, period, offered, applied)
     analytic = None
     if src.kind == "keplerian":
         analytic = 2.0 * np.sqrt(src.a_m * src.gm) * src.e / C2_M2_PER_S2
@@ -161,7 +185,7 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
     if n_series is not None:
         ts = series_times_s(span.duration_s, inputs.series_step_s)
         offset = q.cumulative_at(ts, rows=[0])[0]
-        series = Series(ts, offset, offset - fit.rate * (ts - 0.5 * span.duration_s) - shift,
+        series = Series(ts, offset, offset - fit.rate * (ts - 0.5 * span.duration_s) - fig.shift_s,
                         ecc_part.offset_s(ts) + ecc_start_s,
                         frame.signal_path(ts, inputs.link_station) if frame.name == "BCRS" else None)
 
@@ -176,18 +200,16 @@ def compute_budget(inputs, reference=None, span=None, gravity=None, **options) -
         terms_fractional={k: float(v / (1.0 + y_ref)) for k, v in fit.term_rates.items()},
         preset=Preset(float(preset_fractional(mean_rate)), f0,
                       None if f0 is None else float(f0 / (1.0 + mean_rate))),
-        offset_at_end_s=float(q.edge_cumulative[0, -1]), offset_extreme_s=float(total[i_ext]),
-        offset_extreme_t_s=float(t[i_ext]), offset_min_s=float(total.min()),
-        offset_max_s=float(total.max()),
-        periodic=PeriodicPart(0.5 * own_p2p, own_p2p, comps[0].period_s if comps else None, comps,
-                              per.half_peak_to_peak(position), 0.5 * p2p, p2p),
+        offset_at_end_s=float(q.edge_cumulative[0, -1]), offset_extreme_s=fig.extreme_s,
+        offset_extreme_t_s=fig.extreme_t_s, offset_min_s=fig.min_s, offset_max_s=fig.max_s,
+        periodic=fig.periodic,
         eccentricity_correction=EccentricityCorrection(
-            ecc_amp, float(np.max(np.abs(residual))), residual_p2p,
+            fig.ecc_amplitude_s, fig.residual_max_s, fig.residual_p2p_s,
             None if analytic is None else float(analytic),
             ECCENTRICITY_FORMULA if offered else NOT_OFFERED_FORMULA, bool(offered), bool(applied),
-            with_position),
+            fig.residual_with_position_s),
         position_term=None if frame.name != "BCRS" else PositionTerm(
-            per.half_peak_to_peak(position), frame.position_base),
+            fig.periodic.position_term_amplitude_s, frame.position_base),
         integration=Integration(q.error_estimate_s, q.node_count, int(len(q.edges_s) - 1),
                                 q.nodes_s.shape[1], inputs.tol_fractional),
         model=model, omitted_terms=omitted, series=series, warnings=tuple(warnings),
