@@ -46,6 +46,7 @@ from ..problems import (
     validation_errors,
     validation_problem,
 )
+from ..services.orbits import gravity_block
 from ..settings import Settings
 
 _MODEL_OF_TYPE = {m.model_fields["type"].annotation.__args__[0]: m for m in TEXT_ORBITS}
@@ -302,17 +303,6 @@ class FileBatch:
     parts: Parts
 
 
-def _gravity_of(defaults: dict):
-    """The batch's gravity block: the forces of a numerical propagation (an OPM) that gives no
-    force_model. None when it is not valid; each item's own validation then names the problem."""
-    from ..schemas.orbits import GravityIn
-
-    try:
-        return GravityIn.model_validate(defaults.get("gravity") or {}, strict=False)
-    except ValidationError:
-        return None
-
-
 async def file_batch(up: Upload, settings: Settings) -> FileBatch:
     """Parse the file once; each object becomes an item whose ``id`` is the object's id."""
     parts = Parts("/defaults")
@@ -329,7 +319,8 @@ async def file_batch(up: Upload, settings: Settings) -> FileBatch:
         errors = validation_errors(exc, orbit, prefix="/defaults/orbit")
         raise _invalid(parts.annotate(errors), "The batch") from exc
     try:
-        objects = await run_in_threadpool(format_sources, orbit_in, "orbit", _gravity_of(defaults))
+        objects = await run_in_threadpool(format_sources, orbit_in, "orbit",
+                                          gravity_block(defaults.get("gravity"), strict=False))
     except PhysicsInputError as exc:
         raise upload_physics_problem(exc, parts, "/defaults") from exc
     if len(objects) > settings.MAX_BATCH_ITEMS:

@@ -10,12 +10,12 @@ from __future__ import annotations
 
 from taubudget.physics.errors import PhysicsInputError
 
-UTC_S = "%Y-%m-%dT%H:%M:%SZ"
+from .budget import UTC_S, utc_time
 
 
 def utc_text(t) -> str:
     """A skyfield Time as ISO 8601 UTC text to the second (trailing Z)."""
-    return t.utc_strftime(UTC_S)
+    return utc_time(t, UTC_S)
 
 
 def instant_text(t) -> str:

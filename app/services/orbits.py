@@ -10,13 +10,14 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from pydantic import ValidationError
 from taubudget.physics.ephemeris import timescale
 from taubudget.physics.errors import PhysicsInputError
 from taubudget.physics.orbits import KeplerianOrbit, SurfaceClock, TleOrbit
 from taubudget.physics.orbits.barycentric import BodySurfaceClock, CentredKeplerianOrbit
 
 from ..formats import FORMAT_ORBITS, build_format_source
-from ..schemas.orbits import KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
+from ..schemas.orbits import GravityIn, KeplerianOrbitIn, SurfaceClockIn, TleOrbitIn
 from .request_terms import request_error
 
 
@@ -94,6 +95,16 @@ ORBIT_BUILDERS: dict[type, Callable] = {
     **{model: build_format_source for model in FORMAT_ORBITS},
 }
 """Request model -> builder(orbit, prefix, gravity) of its physics source."""
+
+
+def gravity_block(block, strict: bool | None = None):
+    """A request's ``gravity`` block as the model, read before the whole request is validated (to
+    build an orbit file's sources once for all its items); None when it is not valid, and the
+    request's own validation then names the problem. ``strict=False``: form-field text."""
+    try:
+        return GravityIn.model_validate(block or {}, strict=strict)
+    except ValidationError:
+        return None
 
 
 def build_source(orbit, prefix: str = "orbit", gravity=None):

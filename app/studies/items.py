@@ -36,6 +36,7 @@ from ..problems import (
 )
 from ..schemas import BudgetRequest
 from ..services.budget import budget_from_request, estimate_nodes, merge_item, orbit_source
+from ..services.orbits import gravity_block
 from ..settings import Settings
 
 log = logging.getLogger("taubudget.studies")
@@ -167,7 +168,7 @@ def _file_source(orbit: dict, gravity):
         if model is None:
             return None
         try:
-            objects = dict(format_sources(model.model_validate(whole), "orbit", _gravity(gravity)))
+            objects = dict(format_sources(model.model_validate(whole), "orbit", gravity_block(gravity)))
         except (ValidationError, PhysicsInputError):
             return None  # the item's own validation names the problem
         with _file_lock:
@@ -175,16 +176,6 @@ def _file_source(orbit: dict, gravity):
                 _file_cache.pop(next(iter(_file_cache)))
             _file_cache[key] = objects
     return objects.get(str(orbit["object_id"]))
-
-
-def _gravity(block):
-    """A study item's gravity block as the model (None when invalid: the item's validation names it)."""
-    from ..schemas.orbits import GravityIn
-
-    try:
-        return GravityIn.model_validate(block or {})
-    except ValidationError:
-        return None
 
 
 def run_item(kind: str, defaults: dict, parameters: dict | None, payload: dict | None,

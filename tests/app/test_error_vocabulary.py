@@ -107,7 +107,7 @@ def test_contact_plan_station_error_names_its_index(client, problem_of):
 def _oem(first_min: int = 0, last_min: int = 20) -> str:
     """A KVN OEM (CCSDS 502.0-B-3 section 5) of an invented satellite: a circular orbit at 7000 km
     sampled every 5 minutes (two-body closed form)."""
-    r, gm = 7000.0, 398600.4418
+    r, gm = 7000.0, 398600.4418  # GM_E km^3/s^2, IERS Conventions (2010) TN36 Table 1.1
     n = np.sqrt(gm / r**3)
     lines = ["CCSDS_OEM_VERS = 3.0", "CREATION_DATE = 2027-02-28T12:00:00", "ORIGINATOR = TAUBUDGET TESTS",
              "",

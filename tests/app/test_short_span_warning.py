@@ -11,7 +11,7 @@ import math
 
 from taubudget.app.schemas import EXAMPLE_REQUEST
 
-GM_EARTH_M3_PER_S2 = 3.986004418e14
+GM_EARTH_M3_PER_S2 = 3.986004418e14  # IERS Conventions (2010) TN36 Table 1.1
 
 
 def _warnings(client, hours: float) -> list[str]:

@@ -69,6 +69,7 @@ def test_perigee_inside_the_earth_is_refused_before_propagation(ts):
     l1 = line("1 99873U 27903A   27060.25000000  .00000000  00000-0  00000-0 0  999")
     l2 = line("2 99873  63.4000 100.0000 9500000 270.0000  10.0000  2.00560000  123")
     n_rad_per_s = 2.0056 * 2 * np.pi / 86400.0
+    # WGS-72 GM, km^3/s^2 (Hoots & Roehrich 1980, Spacetrack Report No. 3; Vallado et al. 2006)
     perigee_km = (398600.8 / n_rad_per_s**2) ** (1 / 3) * (1 - 0.95)
     with pytest.raises(PhysicsInputError) as info:
         TleOrbit(l1, l2, ts)
