@@ -27,7 +27,7 @@ from ..studies import items as study_items
 from ..studies import table
 from ..studies.expand import StudyRequest, Sweep
 from ..studies.runtime import studies_of
-from ..studies.store import Store, Study
+from ..studies.store import Progress, Store, Study
 from . import openapi_doc as doc
 from . import uploads
 
@@ -96,8 +96,9 @@ def _iso(t: float | None) -> str | None:
     return None if t is None else datetime.fromtimestamp(t, UTC).isoformat().replace("+00:00", "Z")
 
 
-def _status(request: Request, store: Store, s: Study) -> StudyStatus:
-    p = store.progress(s.id)
+def _status(request: Request, store: Store, s: Study, p: Progress | None = None) -> StudyStatus:
+    """``s``'s status; ``p``: its progress, read from the store when not given."""
+    p = store.progress(s.id) if p is None else p
     finished = p.done + p.failed
     if s.started_at is None:
         elapsed = 0.0
@@ -304,10 +305,11 @@ async def submit_study(request: Request, settings: SettingsDep):
     store = await _store(request)
     try:
         await run_in_threadpool(_check_queue, store, settings, total)
-        study_id = await run_in_threadpool(store.create_study, kind, origin, stored.pop("name", None), stored,
-                                           entries, total)
-        s = await run_in_threadpool(store.get, study_id)
-        status = await run_in_threadpool(_status, request, store, s)
+        # The answer describes the study as accepted (queued, nothing done yet): the dispatcher may
+        # lease it at once; its URL gives the progress from then on.
+        s = await run_in_threadpool(store.submit, kind, origin, stored.pop("name", None), stored,
+                                    entries, total)
+        status = _status(request, store, s, Progress(0, 0))
     except SQLAlchemyError as exc:
         raise _unavailable(settings, exc) from exc
     studies_of(request.app).runner.wake()

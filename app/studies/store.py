@@ -201,6 +201,13 @@ class Store:
                      entries: Iterable[tuple[Any, dict | None, dict | None]], total: int,
                      chunk: int = 1000) -> str:
         """Insert a study and its items (``entries``: (id, parameters, payload), streamed in chunks)."""
+        return self.submit(kind, origin, name, spec, entries, total, chunk).id
+
+    def submit(self, kind: str, origin: str, name: str | None, spec: dict,
+               entries: Iterable[tuple[Any, dict | None, dict | None]], total: int,
+               chunk: int = 1000) -> Study:
+        """``create_study``, returning the study as inserted (read in the same transaction, so a
+        dispatcher that leases it at once cannot change what the submission reports)."""
         study_id = uuid.uuid4().hex
         with self.engine.begin() as conn:
             conn.execute(studies.insert().values(
@@ -220,7 +227,8 @@ class Store:
                 conn.execute(items.insert(), rows)
             if n != total:
                 raise ValueError(f"expected {total} items, got {n}")
-        return study_id
+            row = conn.execute(select(studies).where(studies.c.id == study_id)).mappings().one()
+        return _study(row)
 
     def get(self, study_id: str) -> Study | None:
         with self.engine.connect() as conn:
